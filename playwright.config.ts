@@ -1,0 +1,30 @@
+// Browser suite: Debian's chromium driven by Playwright against the app served by vite with COOP/COEP.
+import { defineConfig } from '@playwright/test';
+import { execSync } from 'node:child_process';
+
+const chromiumPath = (() => {
+  try { return execSync('command -v chromium', { shell: '/bin/bash' }).toString().trim(); } catch { return '/usr/bin/chromium'; }
+})();
+
+export default defineConfig({
+  testDir: 'test/browser',
+  testMatch: '**/*.spec.ts',
+  timeout: 300_000,
+  workers: 1,
+  reporter: [['list'], ['json']],
+  use: {
+    baseURL: 'http://127.0.0.1:5179',
+    launchOptions: {
+      executablePath: chromiumPath,
+      args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run',
+        '--disable-background-networking', '--disable-component-update', '--disable-sync'],
+    },
+    screenshot: 'only-on-failure',
+  },
+  webServer: {
+    command: 'npx vite --port 5179 --strictPort --host 127.0.0.1',
+    url: 'http://127.0.0.1:5179/',
+    reuseExistingServer: false,
+    timeout: 120_000,
+  },
+});
