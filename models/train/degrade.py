@@ -1,0 +1,88 @@
+"""Sensor and radiometry randomisation shared by every training source: point-spread blur, pixel aggregation to a
+sensor GSD, shot/read noise, bit depth, band layout (pan replicated), per-scene-like percentile stretch and colour
+jitter. Images are float32 HxWx3 in 0..255 (8-bit display range)."""
+import math
+import numpy as np
+import torch
+import torch.nn.functional as F
+
+
+def gaussian_blur(t, sigma):
+    """t: [1,C,H,W]; separable Gaussian, reflect padding."""
+    if sigma < 0.3:
+        return t
+    r = max(1, int(math.ceil(2.5 * sigma)))
+    x = torch.arange(-r, r + 1, dtype=torch.float32)
+    k = torch.exp(-0.5 * (x / sigma) ** 2)
+    k = k / k.sum()
+    c = t.shape[1]
+    t = F.pad(t, (r, r, r, r), mode="reflect")
+    t = F.conv2d(t, k.view(1, 1, 1, -1).repeat(c, 1, 1, 1), groups=c)
+    return F.conv2d(t, k.view(1, 1, -1, 1).repeat(c, 1, 1, 1), groups=c)
+
+
+def percentile_stretch(img, rng, lo_pct=None, hi_pct=None):
+    """Map [p_lo, p_hi] of all bands to 0..255 (the pipeline computes these per scene from an overview)."""
+    # the pipeline's default is 1 / 99 over all three bands together, from an overview (radiometry.ts)
+    lo_pct = rng.uniform(0.5, 2) if lo_pct is None else lo_pct
+    hi_pct = rng.uniform(98, 99.5) if hi_pct is None else hi_pct
+    lo, hi = np.percentile(img, [lo_pct, hi_pct])
+    return np.clip((img - lo) * (255.0 / max(hi - lo, 1e-3)), 0, 255)
+
+
+def sensor(img_fine, fine_gsd_m, sensor_gsd_m, out_px, rng):
+    """Degrade a fine render to a sensor at sensor_gsd_m and resample to an out_px grid over the same extent."""
+    t = torch.from_numpy(np.ascontiguousarray(img_fine.transpose(2, 0, 1)))[None]
+    ratio = sensor_gsd_m / fine_gsd_m
+    t = gaussian_blur(t, rng.uniform(0.3, 0.6) * ratio)
+    n_sensor = max(8, int(round(t.shape[-1] / ratio)))
+    t = F.interpolate(t, size=(n_sensor, n_sensor), mode="area" if ratio >= 1 else "bilinear",
+                      align_corners=None if ratio >= 1 else False)
+    img = t[0].numpy().transpose(1, 2, 0)
+    img = radiometry(img, rng)
+    t = torch.from_numpy(np.ascontiguousarray(img.transpose(2, 0, 1)))[None]
+    # as resample.ts: area average when downsampling, bilinear (pixel-centre aligned) when upsampling
+    if n_sensor > out_px:
+        t = F.interpolate(t, size=(out_px, out_px), mode="area")
+    else:
+        t = F.interpolate(t, size=(out_px, out_px), mode="bilinear", align_corners=False)
+    return np.clip(t[0].numpy().transpose(1, 2, 0), 0, 255)
+
+
+def radiometry(img, rng):
+    """Lighting, colour, haze, noise, bit depth, band layout, then a percentile stretch back to 0..255."""
+    img = img / 255.0
+    img = np.clip(img, 0, 1) ** rng.uniform(0.7, 1.4)
+    img = img * rng.uniform(0.85, 1.15, 3).astype(np.float32) * rng.uniform(0.5, 1.2)
+    if rng.random() < 0.3:  # haze
+        img = img * rng.uniform(0.6, 0.95) + rng.uniform(0.05, 0.3)
+    if rng.random() < 0.08:
+        img = img[..., rng.permutation(3)]
+    bits = rng.choice([8, 11, 12, 16], p=[0.4, 0.25, 0.25, 0.1])
+    full = float(2 ** bits - 1)
+    dn = img * full * (rng.uniform(0.6, 1.0) if bits == 8 else rng.uniform(0.15, 0.9))
+    noise_rel = rng.uniform(0.002, 0.03)
+    dn = dn + rng.standard_normal(dn.shape).astype(np.float32) * (noise_rel * full * 0.3 + np.sqrt(np.maximum(dn, 0) *
+                                                                                             noise_rel * full * 0.05))
+    dn = np.round(np.clip(dn, 0, full))
+    if rng.random() < 0.15:  # panchromatic: replicated to three bands as the pipeline does
+        g = dn @ np.array([0.3, 0.45, 0.25], np.float32)
+        dn = np.repeat(g[..., None], 3, axis=2)
+    if bits == 8:  # the pipeline passes 8-bit data through unchanged (radiometry.ts: identity stretch)
+        return dn.astype(np.float32)
+    return percentile_stretch(dn.astype(np.float32), rng).astype(np.float32)
+
+
+def jitter(img, rng):
+    """Mild photometric jitter for already-rendered chips (synthesizer scenes): gamma, gains, noise."""
+    x = np.clip(img / 255.0, 0, 1) ** rng.uniform(0.8, 1.25)
+    x = x * rng.uniform(0.9, 1.1, 3).astype(np.float32) * rng.uniform(0.85, 1.15)
+    x = x + rng.standard_normal(x.shape).astype(np.float32) * rng.uniform(0, 0.02)
+    if rng.random() < 0.05:
+        x = x[..., rng.permutation(3)]
+    return np.clip(x * 255, 0, 255).astype(np.float32)
+
+
+def sample_sensor_gsd(rng):
+    """Sensor GSD in metres: log-uniform 0.12-0.9 m (covers the 0.15-0.8 m evaluation grid)."""
+    return float(math.exp(rng.uniform(math.log(0.12), math.log(0.9))))

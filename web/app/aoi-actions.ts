@@ -1,0 +1,94 @@
+// Changes to the analyst's areas: add, cut a hole, edit, rename, delete, import; each is kept and announced.
+import type { AppState, AoiRecord } from './state.ts';
+import { parseAois, validateAoi, aoisToGeoJson } from '../core/aoi.ts';
+import { pointInRing, OUTSIDE } from '../core/point-in-polygon.ts';
+import { toErrorInfo } from '../core/errors.ts';
+import type { LonLatDeg } from '../core/types.ts';
+
+function report(state: AppState, err: unknown): void {
+  state.events.emit('notice', { level: 'error', text: toErrorInfo(err).message });
+}
+
+async function keep(state: AppState, aoi: AoiRecord): Promise<void> {
+  try { await state.store?.putAoi(aoi); } catch (err) { report(state, err); }
+}
+
+function nextName(state: AppState): string {
+  for (let i = state.aois.length + 1; ; i++) {
+    const name = `Area ${i}`;
+    if (!state.aois.some((a) => a.name === name)) return name;
+  }
+}
+
+/** Add a drawn area (one ring). Returns false (with a notice) when the ring is not a valid area. */
+export async function addArea(state: AppState, ringLonLat: LonLatDeg[], name = nextName(state)): Promise<boolean> {
+  const aoi: AoiRecord = { id: `aoi-${Date.now().toString(36)}-${Math.floor(Math.random() * 1e6).toString(36)}`, name, polygonsLonLat: [[ringLonLat]] };
+  try { validateAoi(aoi); } catch (err) { report(state, err); return false; }
+  state.aois = [...state.aois, aoi];
+  await keep(state, aoi);
+  state.events.emit('aois-changed');
+  return true;
+}
+
+/** Cut a hole into the first area polygon whose outer ring holds the hole's first vertex. */
+export async function addHole(state: AppState, ringLonLat: LonLatDeg[]): Promise<void> {
+  const p = ringLonLat[0];
+  for (const a of state.aois) {
+    const k = a.polygonsLonLat.findIndex((poly) => pointInRing(p[0], p[1], poly[0]) !== OUTSIDE);
+    if (k < 0) continue;
+    const next: AoiRecord = { ...a, polygonsLonLat: a.polygonsLonLat.map((poly, i) => (i === k ? [...poly, ringLonLat] : poly)) };
+    try { validateAoi(next); } catch (err) { report(state, err); return; }
+    await replace(state, next);
+    return;
+  }
+  state.events.emit('notice', { level: 'error', text: 'A hole must be drawn inside an area: start the hole inside the area you want to cut.' });
+}
+
+/** Replace an area's geometry (after vertex editing). */
+export async function editArea(state: AppState, id: string, polygonsLonLat: LonLatDeg[][][]): Promise<void> {
+  const a = state.aois.find((x) => x.id === id);
+  if (!a) return;
+  const next = { ...a, polygonsLonLat };
+  try { validateAoi(next); } catch (err) { report(state, err); state.events.emit('aois-changed'); return; }
+  await replace(state, next);
+}
+
+export async function renameArea(state: AppState, id: string, name: string): Promise<void> {
+  const a = state.aois.find((x) => x.id === id);
+  if (!a || !name.trim()) return;
+  await replace(state, { ...a, name: name.trim() });
+}
+
+export async function deleteArea(state: AppState, id: string): Promise<void> {
+  state.aois = state.aois.filter((a) => a.id !== id);
+  await state.store?.deleteAoi(id);
+  state.events.emit('aois-changed');
+}
+
+/** Import areas from GeoJSON text (ids made unique against existing areas). */
+export async function importAreas(state: AppState, text: string): Promise<number> {
+  let aois: AoiRecord[];
+  try { aois = parseAois(text); } catch (err) { report(state, err); return 0; }
+  const taken = new Set(state.aois.map((a) => a.id));
+  for (const a of aois) {
+    let id = a.id;
+    for (let i = 2; taken.has(id); i++) id = `${a.id}-${i}`;
+    taken.add(id);
+    const rec = { ...a, id };
+    state.aois = [...state.aois, rec];
+    await keep(state, rec);
+  }
+  state.events.emit('aois-changed');
+  return aois.length;
+}
+
+/** All areas as a GeoJSON text (RFC 7946, lon/lat). */
+export function exportAreas(state: AppState): string {
+  return JSON.stringify(aoisToGeoJson(state.aois), null, 1);
+}
+
+async function replace(state: AppState, next: AoiRecord): Promise<void> {
+  state.aois = state.aois.map((a) => (a.id === next.id ? next : a));
+  await keep(state, next);
+  state.events.emit('aois-changed');
+}

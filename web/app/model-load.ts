@@ -1,0 +1,64 @@
+// Finding and reading detectors: the shipped model under /models/ (fixture model as fallback), or a user's pair.
+import type { ModelEntry } from './state.ts';
+import { parseSidecar } from '../core/model-contract.ts';
+import { SeamtallyError } from '../core/errors.ts';
+
+/** Largest .onnx the app accepts (untrusted input; the shipped model is ≤ 4 MB). */
+const MAX_ONNX_BYTES = 200 * 1024 * 1024;
+
+async function fetchOk(url: string): Promise<Response | null> {
+  try {
+    const res = await fetch(url);
+    return res.ok ? res : null;
+  } catch { return null; }
+}
+
+/** Read a model given its sidecar URL (`…/name.model.json`; the .onnx sits beside it). */
+export async function fetchModel(sidecarUrl: string, origin: ModelEntry['origin']): Promise<ModelEntry> {
+  const scRes = await fetchOk(sidecarUrl);
+  if (!scRes) throw new SeamtallyError('model-invalid', `The model sidecar ${sidecarUrl} could not be read. Check that the file exists.`);
+  const sidecar = parseSidecar(await scRes.text());
+  const onnxUrl = sidecarUrl.replace(/\.model\.json$/, '.onnx');
+  const onnxRes = await fetchOk(onnxUrl);
+  if (!onnxRes) throw new SeamtallyError('model-invalid', `The model file ${onnxUrl} could not be read: put the .onnx beside its .model.json.`);
+  const bytes = await onnxRes.arrayBuffer();
+  const base = sidecarUrl.slice(0, sidecarUrl.lastIndexOf('/') + 1);
+  const cardName = sidecar.card ? sidecar.card.split('/').pop()! : 'README.md';
+  const cardRes = origin === 'shipped' ? await fetchOk(base + cardName) : null;
+  const card = cardRes && /markdown|text\/plain/.test(cardRes.headers.get('Content-Type') ?? '') ? await cardRes.text() : null;
+  const name = sidecar.name ?? sidecarUrl.split('/').pop()!.replace(/\.model\.json$/, '');
+  return { name, origin, bytes, sidecar, card };
+}
+
+/** The shipped detector: the first sidecar listed at /models/index.json, else the test fixture model. */
+export async function fetchDefaultModel(preferred?: string): Promise<ModelEntry> {
+  const candidates: Array<[string, ModelEntry['origin']]> = [];
+  if (preferred) candidates.push([preferred, 'shipped']);
+  const listRes = await fetchOk('/models/index.json');
+  if (listRes) {
+    const list = (await listRes.json()) as unknown;
+    if (Array.isArray(list)) {
+      for (const f of list) if (typeof f === 'string' && f.endsWith('.model.json')) candidates.push([`/models/${f}`, 'shipped']);
+    }
+  }
+  candidates.push(['/fixtures/fixture-model.model.json', 'fixture']);
+  let last: unknown = null;
+  for (const [url, origin] of candidates) {
+    try { return await fetchModel(url, origin); } catch (err) { last = err; }
+  }
+  throw last ?? new SeamtallyError('model-invalid', 'No detector was found under /models/: load an .onnx and its .model.json with "Use another detector".');
+}
+
+/** A user's model from two picked files: the .onnx and its .model.json sidecar. */
+export async function readModelFiles(files: File[]): Promise<ModelEntry> {
+  const onnx = files.find((f) => f.name.toLowerCase().endsWith('.onnx'));
+  const side = files.find((f) => f.name.toLowerCase().endsWith('.json'));
+  if (!onnx || !side) {
+    throw new SeamtallyError('model-invalid', 'Pick two files together: the model (.onnx) and its sidecar (.model.json).');
+  }
+  if (onnx.size > MAX_ONNX_BYTES) {
+    throw new SeamtallyError('model-invalid', `The model file is ${(onnx.size / 2 ** 20).toFixed(0)} MB; at most ${MAX_ONNX_BYTES / 2 ** 20} MB are accepted. Pick a smaller model.`);
+  }
+  const sidecar = parseSidecar(await side.text());
+  return { name: sidecar.name ?? onnx.name.replace(/\.onnx$/i, ''), origin: 'user', bytes: await onnx.arrayBuffer(), sidecar, card: null };
+}

@@ -1,0 +1,87 @@
+// Opening scenes (File or URL): fingerprint, describe in a worker, keep, and draw on the map.
+import type { AppState, SceneEntry, SceneOrigin } from './state.ts';
+import type { SceneInput } from '../../workers/contract.ts';
+import type { DetectorPool } from './worker-pool.ts';
+import type { SceneLayers } from './scene-layers.ts';
+import { fingerprintScene } from './fingerprint.ts';
+import { toErrorInfo, fromErrorInfo } from '../core/errors.ts';
+
+/** Longest side of the overview picture drawn on the map. */
+const PREVIEW_LONG_SIDE_PX = 2048;
+
+export interface SceneServices { pool: DetectorPool; layers: SceneLayers }
+
+function originOf(input: SceneInput): SceneOrigin {
+  return input.kind === 'url' ? { kind: 'url', url: input.url }
+    : { kind: 'file', name: input.file.name, sizeB: input.file.size, lastModifiedMs: input.file.lastModified };
+}
+
+function nameOf(input: SceneInput): string {
+  return input.kind === 'file' ? input.file.name : decodeURIComponent(new URL(input.url, location.href).pathname.split('/').pop() || input.url);
+}
+
+/**
+ * Open one scene. Errors become a notice naming the file ("x.png: This file is not a TIFF…") and return null.
+ * Reopening a known scene (same fingerprint) re-attaches the file and keeps its date.
+ */
+export async function openScene(state: AppState, svc: SceneServices, input: SceneInput, opts: { dateIso?: string } = {}): Promise<SceneEntry | null> {
+  const name = nameOf(input);
+  try {
+    const fingerprint = await fingerprintScene(input);
+    const known = state.scenes.find((s) => s.fingerprint === fingerprint);
+    if (known) {
+      known.input = input;
+      state.events.emit('scenes-changed');
+      return known;
+    }
+    const r = await svc.pool.any().describeScene(input);
+    if (!r.ok) throw fromErrorInfo(r.error);
+    const info = { ...r.value.info, name };
+    const kept = (await state.store?.allScenes())?.find((s) => s.fingerprint === fingerprint);
+    let dateIso = opts.dateIso ?? kept?.dateIso ?? info.acquisitionDate ?? null;
+    if (!dateIso) {
+      dateIso = new Date(input.kind === 'file' ? input.file.lastModified : Date.now()).toISOString().slice(0, 10);
+      state.events.emit('notice', { level: 'info', text: `${name} carries no acquisition date; it was set to ${dateIso}. Correct it in the Imagery list.` });
+    }
+    const entry: SceneEntry = {
+      fingerprint, name, dateIso, origin: originOf(input), info, description: { ...r.value, info }, addedMs: Date.now(), input, mask: null,
+    };
+    state.scenes = [...state.scenes, entry];
+    const { input: _live, mask: _mask, ...record } = entry;
+    await state.store?.putScene(record);
+    state.events.emit('scenes-changed');
+    void drawScene(state, svc, entry);
+    return entry;
+  } catch (err) {
+    state.events.emit('notice', { level: 'error', text: `${name}: ${toErrorInfo(err).message}` });
+    return null;
+  }
+}
+
+/** Draw (or redraw) a scene's overview picture on the map. */
+export async function drawScene(state: AppState, svc: SceneServices, entry: SceneEntry): Promise<void> {
+  if (!entry.input) return;
+  const r = await svc.pool.any().previewScene(entry.input, { maxLongSidePx: PREVIEW_LONG_SIDE_PX });
+  if (!r.ok) { state.events.emit('notice', { level: 'error', text: `${entry.name}: ${r.error.message}` }); return; }
+  entry.mask = { validMask: r.value.validMask, widthPx: r.value.widthPx, heightPx: r.value.heightPx };
+  await svc.layers.show(entry, r.value, entry.description.proj4Def);
+}
+
+/** Change a scene's acquisition date (scenes of one date form one mosaic). */
+export async function setSceneDate(state: AppState, fingerprint: string, dateIso: string): Promise<void> {
+  const s = state.scenes.find((x) => x.fingerprint === fingerprint);
+  if (!s || !/^\d{4}-\d{2}-\d{2}$/.test(dateIso)) return;
+  s.dateIso = dateIso;
+  const { input: _live, mask: _mask, ...record } = s;
+  await state.store?.putScene(record);
+  state.events.emit('scenes-changed');
+}
+
+/** Remove a scene from the session (and from what is kept). */
+export async function removeScene(state: AppState, svc: SceneServices, fingerprint: string): Promise<void> {
+  state.scenes = state.scenes.filter((s) => s.fingerprint !== fingerprint);
+  svc.layers.remove(fingerprint);
+  await svc.pool.any().forgetScene(fingerprint);
+  await state.store?.deleteScene(fingerprint);
+  state.events.emit('scenes-changed');
+}

@@ -1,0 +1,122 @@
+// The one app state: created in main.ts and passed to every panel; changes are announced on `events`.
+import type { DetectionTable, ReviewState } from '../core/types.ts';
+import type { SceneInfo } from '../core/scene-source.ts';
+import type { Aoi } from '../core/aoi.ts';
+import type { ModelSidecar } from '../core/model-contract.ts';
+import type { SceneInput, SceneDescription } from '../../workers/contract.ts';
+import type { WorkStore } from './store.ts';
+import { EventBus } from './events.ts';
+
+/** Where a scene's bytes come from, as kept (a File cannot be kept, so it is matched by fingerprint on reopen). */
+export type SceneOrigin = { kind: 'url'; url: string } | { kind: 'file'; name: string; sizeB: number; lastModifiedMs: number };
+
+/** A scene as kept in IndexedDB. */
+export interface SceneRecord {
+  fingerprint: string;
+  name: string;
+  /** Acquisition date YYYY-MM-DD (from the file, editable). Scenes of one date form one mosaic. */
+  dateIso: string;
+  origin: SceneOrigin;
+  info: SceneInfo;
+  /** Radiometry (band choice, per-scene stretch) and CRS definition, as the worker described the scene. */
+  description: SceneDescription;
+  addedMs: number;
+}
+
+/** A scene in this session: the kept record plus, when available, the live File/URL the workers read. */
+export interface SceneEntry extends SceneRecord {
+  input: SceneInput | null;
+  /** Valid-pixel mask from the overview drawn on the map (for coverage), once drawn. */
+  mask: { validMask: Uint8Array; widthPx: number; heightPx: number } | null;
+}
+
+/** An area of interest in WGS 84 lon/lat (the core's AOI: polygons → rings, exterior first, then holes). */
+export type AoiRecord = Aoi;
+
+/** An object the analyst added by drawing its box (review 'added'). Corners in lon/lat, counter-clockwise. */
+export interface AddedBox {
+  id: string;
+  dateIso: string;
+  classIdx: number;
+  ringLonLat: Array<[number, number]>;
+  centreLonLat: [number, number];
+}
+
+/** The detector in use: ONNX bytes plus its validated sidecar (kept as plain JSON). */
+export interface ModelEntry {
+  name: string;
+  origin: 'shipped' | 'fixture' | 'user';
+  bytes: ArrayBuffer;
+  sidecar: ModelSidecar;
+  /** Model card text (markdown), when found beside the model. */
+  card: string | null;
+}
+
+/** Merged detections of one date (all scenes of that date), scores ≥ the run's floor. */
+export interface DateDetections {
+  dateIso: string;
+  table: DetectionTable;
+  /** Stable key per row (class + rounded centre), used for review decisions. */
+  keys: string[];
+}
+
+export interface RunProgress {
+  status: 'idle' | 'running' | 'merging' | 'done' | 'cancelled' | 'failed';
+  tilesDone: number;
+  tilesTotal: number;
+  startedMs: number;
+  /** Tiles per second over the last few seconds. */
+  tilesPerS: number;
+  message: string;
+}
+
+export interface AppState {
+  events: EventBus;
+  store: WorkStore | null;
+  scenes: SceneEntry[];
+  aois: AoiRecord[];
+  model: ModelEntry | null;
+  /** Workers in the pool; default navigator.hardwareConcurrency. */
+  poolSize: number;
+  /** Only tiles touching an area are run. */
+  areasOnly: boolean;
+  /** Score threshold of the slider; every count uses it. */
+  minScore: number;
+  progress: RunProgress;
+  results: DateDetections[];
+  review: Map<string, ReviewState>;
+  added: AddedBox[];
+  /** Currently selected detection (date + row) for review. */
+  selection: { dateIso: string; row: number } | null;
+}
+
+/** The state at page start (nothing loaded yet). */
+export function createAppState(store: WorkStore | null): AppState {
+  return {
+    events: new EventBus(),
+    store,
+    scenes: [],
+    aois: [],
+    model: null,
+    poolSize: Math.max(1, Math.min(8, navigator.hardwareConcurrency || 2)),
+    areasOnly: false,
+    minScore: 0.5,
+    progress: { status: 'idle', tilesDone: 0, tilesTotal: 0, startedMs: 0, tilesPerS: 0, message: '' },
+    results: [],
+    review: new Map(),
+    added: [],
+    selection: null,
+  };
+}
+
+/** Dates present among the scenes, ascending, each with its scenes. */
+export function scenesByDate(state: AppState): Array<{ dateIso: string; scenes: SceneEntry[] }> {
+  const m = new Map<string, SceneEntry[]>();
+  for (const s of state.scenes) m.set(s.dateIso, [...(m.get(s.dateIso) ?? []), s]);
+  return [...m.entries()].sort(([a], [b]) => a.localeCompare(b)).map(([dateIso, scenes]) => ({ dateIso, scenes }));
+}
+
+/** Review key of a detection: date + stored key. */
+export function reviewKey(dateIso: string, detKey: string): string {
+  return `${dateIso}|${detKey}`;
+}

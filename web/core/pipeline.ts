@@ -1,0 +1,316 @@
+// One tile: read window → resample to the model GSD → normalise into a reused NCHW tensor → infer (injected) → decode →
+// keep core centres → metric ground frame; plus the run driver shared by the CLI and the browser workers.
+import { createTransform, epsgName, metricFrameEpsg, type UserCrsDefs } from './crs.ts';
+import { decodeOutputs, normaliseAxisAngle, type PixelDetections, type TensorLike } from './decode-outputs.ts';
+import { SeamtallyError } from './errors.ts';
+import { pixelToMap } from './geotransform.ts';
+import type { ModelSidecar } from './model-contract.ts';
+import { computeStretch, normaliseInPlace, selectBands, type BandSelection, type Stretch, type StretchOptions } from './radiometry.ts';
+import { planResample, resampleBand } from './resample.ts';
+import { pickOverviewLevel, type RasterWindow, type SceneSource } from './scene-source.ts';
+import { keepCoreCentres } from './seam-merge.ts';
+import { planTiles, type PlannedTile, type TilePlan } from './tiling.ts';
+import { createDetectionTable, type DetectionTable } from './types.ts';
+
+/** The injected detector: one [1, 3, tilePx, tilePx] float32 tensor in, named output tensors out. */
+export type InferFn = (input: Float32Array, dims: readonly [1, 3, number, number]) => Promise<Record<string, TensorLike>>;
+
+/** Everything one scene's tiles need, prepared once per scene (stretch from an overview, tiling, frame). */
+export interface ScenePipeline {
+  source: SceneSource;
+  sceneIdx: number;
+  sidecar: ModelSidecar;
+  plan: TilePlan;
+  bands: BandSelection;
+  stretch: Stretch;
+  /** EPSG code of the metric ground frame all detections of the run go to. */
+  frameEpsg: number;
+  minScore: number;
+  userDefs?: UserCrsDefs;
+}
+
+export interface PrepareOptions {
+  /** Model input size in pixels. Default: the sidecar's tilePx. */
+  tilePx?: number;
+  /** Overlap per side in model pixels, or 'auto' (default): from the sidecar's largest object extent. */
+  overlapPx?: number | 'auto';
+  /** Explicit bands (0-based): 3 for R,G,B or 1 for panchromatic. Default: from metadata / layout. */
+  bands?: readonly number[];
+  /** Metric frame EPSG for the whole run. Default: runFrameEpsg([this scene]). */
+  frameEpsg?: number;
+  /** Minimum detector score kept. Default: the sidecar's minScore, else 0.5. */
+  minScore?: number;
+  stretch?: StretchOptions;
+  /** Largest object extent in metres when the sidecar has no `objects`. Default 10 m. */
+  fallbackMaxExtentM?: number;
+  userDefs?: UserCrsDefs;
+  signal?: AbortSignal;
+}
+
+/** Largest overview side used for the stretch: the coarsest level with at least this many pixels on its long side. */
+const STRETCH_OVERVIEW_MIN_PX = 512;
+
+/** The metric frame for a set of scenes (one date mosaic): the first scene's metric frame (crs.ts metricFrameEpsg). */
+export function runFrameEpsg(scenes: readonly SceneSource[], userDefs?: UserCrsDefs): number {
+  if (scenes.length === 0) throw new Error('runFrameEpsg needs at least one scene');
+  const g = scenes[0].info.georef;
+  return metricFrameEpsg(g.epsg, g.centreLonLat, userDefs);
+}
+
+/** Largest object extent the sidecar declares (objects.*.maxExtentM), or the fallback. */
+export function maxObjectExtentM(sidecar: ModelSidecar, fallbackM = 10): number {
+  const specs = Object.values(sidecar.objects ?? {});
+  return specs.length ? Math.max(...specs.map((o) => o.maxExtentM)) : fallbackM;
+}
+
+/**
+ * Read the stretch sample: the coarsest overview with ≥ 512 px on its long side, whole; without overviews, a 4 × 4
+ * grid of 64 px windows spread over the full-resolution scene (never the whole raster).
+ */
+export async function readStretchSample(source: SceneSource, signal?: AbortSignal): Promise<RasterWindow[]> {
+  const info = source.info;
+  const level = pickOverviewLevel(info, STRETCH_OVERVIEW_MIN_PX);
+  const long = Math.max(info.widthPx, info.heightPx);
+  if (level > 0 || long <= 1024) {
+    const sz = level === 0 ? info : info.overviews[level - 1];
+    return [await source.readWindow({ minXPx: 0, minYPx: 0, maxXPx: sz.widthPx, maxYPx: sz.heightPx }, { overviewLevel: level, signal })];
+  }
+  const out: RasterWindow[] = [];
+  const n = 4, s = 64;
+  for (let j = 0; j < n; j++) {
+    for (let i = 0; i < n; i++) {
+      const x = Math.floor(((i + 0.5) * info.widthPx) / n - s / 2);
+      const y = Math.floor(((j + 0.5) * info.heightPx) / n - s / 2);
+      const x0 = Math.max(0, x), y0 = Math.max(0, y);
+      out.push(await source.readWindow({ minXPx: x0, minYPx: y0, maxXPx: Math.min(info.widthPx, x0 + s), maxYPx: Math.min(info.heightPx, y0 + s) }, { signal }));
+    }
+  }
+  return out;
+}
+
+/** Concatenate sample windows band by band into one window (for the percentile computation). */
+function joinSamples(ws: RasterWindow[]): RasterWindow {
+  if (ws.length === 1) return ws[0];
+  const first = ws[0];
+  const total = ws.reduce((a, w) => a + w.widthPx * w.heightPx, 0);
+  const bands = first.bands.map((_, b) => {
+    const out = new Float64Array(total);
+    let o = 0;
+    for (const w of ws) { out.set(w.bands[b] as ArrayLike<number>, o); o += w.widthPx * w.heightPx; }
+    return out;
+  });
+  return { ...first, widthPx: total, heightPx: 1, bands };
+}
+
+/** Prepare one scene: band roles, per-scene stretch (from an overview), tile plan, frame. */
+export async function prepareScene(source: SceneSource, sceneIdx: number, sidecar: ModelSidecar, opts: PrepareOptions = {}): Promise<ScenePipeline> {
+  const info = source.info;
+  const tilePx = opts.tilePx ?? sidecar.tilePx;
+  if (sidecar.output.layout === 'center-heatmap' && tilePx % sidecar.output.stride !== 0) {
+    throw new SeamtallyError('bad-argument', `The tile size ${tilePx} px is not a multiple of the model's output stride ${sidecar.output.stride}: choose a multiple of ${sidecar.output.stride}.`);
+  }
+  const bands = selectBands(info, opts.bands);
+  const sample = joinSamples(await readStretchSample(source, opts.signal));
+  const stretch = computeStretch(sample, bands, { significantBits: info.significantBits, ...opts.stretch });
+  const plan = planTiles({
+    sceneWidthPx: info.widthPx,
+    sceneHeightPx: info.heightPx,
+    sceneGsdM: info.georef.gsdM,
+    modelGsdM: sidecar.inputGsdM,
+    tilePx,
+    maxObjectExtentM: maxObjectExtentM(sidecar, opts.fallbackMaxExtentM),
+    overlapPx: opts.overlapPx ?? 'auto',
+  });
+  return {
+    source, sceneIdx, sidecar, plan, bands, stretch,
+    frameEpsg: opts.frameEpsg ?? runFrameEpsg([source], opts.userDefs),
+    minScore: opts.minScore ?? sidecar.minScore ?? 0.5,
+    userDefs: opts.userDefs,
+  };
+}
+
+/** Reusable per-worker buffers: the NCHW input tensor and a validity mask of one tile. */
+export interface TileScratch {
+  tilePx: number;
+  tensor: Float32Array;
+  valid: Uint8Array;
+  plane: Float32Array;
+}
+
+export function createTileScratch(tilePx: number): TileScratch {
+  return { tilePx, tensor: new Float32Array(3 * tilePx * tilePx), valid: new Uint8Array(tilePx * tilePx), plane: new Float32Array(tilePx * tilePx) };
+}
+
+export interface TileTimings { readMs: number; resampleMs: number; inferMs: number; decodeMs: number }
+
+export interface TileResult {
+  tile: PlannedTile;
+  /** Detections whose centre lies in the tile's core, in the run's metric frame. */
+  table: DetectionTable;
+  /** True when the tile held no valid pixel and inference was skipped. */
+  skipped: boolean;
+  timings: TileTimings;
+}
+
+const now = () => performance.now();
+
+/** Fill the tensor with the tile's resampled, normalised pixels. Returns false when no pixel is valid. */
+export function fillTensor(p: ScenePipeline, tile: PlannedTile, win: RasterWindow, scratch: TileScratch): boolean {
+  const T = scratch.tilePx;
+  const plane = T * T;
+  const wm = tile.windowModelPx;
+  const ow = wm.maxXPx - wm.minXPx, oh = wm.maxYPx - wm.minYPx;
+  const f = 1 / p.plan.scale;
+  const rp = planResample(wm, win.windowPx, { scenePxPerModelPxX: f, scenePxPerModelPxY: f }, p.plan.sceneWidthPx, p.plan.sceneHeightPx);
+  const dense = ow === T && oh === T;
+  const { tensor, valid } = scratch;
+  if (!dense) valid.fill(0);
+  const idx = p.bands.indices;
+  for (let c = 0; c < 3; c++) {
+    const dstPlane = tensor.subarray(c * plane, (c + 1) * plane);
+    if (c > 0 && idx[c] === idx[c - 1] && dense) { dstPlane.set(tensor.subarray((c - 1) * plane, c * plane)); continue; }
+    const out = dense ? dstPlane : scratch.plane.subarray(0, ow * oh);
+    const vmask = dense ? valid : new Uint8Array(ow * oh);
+    resampleBand(win.bands[idx[c]], rp, out, { nodata: win.nodata, validOut: c === 0 ? vmask : undefined });
+    if (!dense) {
+      dstPlane.fill(0);
+      for (let y = 0; y < oh; y++) {
+        dstPlane.set(out.subarray(y * ow, (y + 1) * ow), y * T);
+        if (c === 0) valid.set(vmask.subarray(y * ow, (y + 1) * ow), y * T);
+      }
+    }
+  }
+  let any = false;
+  for (let i = 0; i < plane; i++) if (valid[i]) { any = true; break; }
+  if (!any) return false;
+  normaliseInPlace(tensor, plane, p.stretch, p.sidecar.input, valid);
+  return true;
+}
+
+/** Convert core detections (model pixels of the resampled scene) to the metric frame. */
+export function toGroundFrame(p: ScenePipeline, dets: PixelDetections): DetectionTable {
+  const g = p.source.info.georef;
+  const gt = g.geoTransform;
+  const toFrame = createTransform(g.epsg, p.frameEpsg, p.userDefs);
+  const s = p.plan.scale;
+  const map = (xModel: number, yModel: number) => toFrame(pixelToMap(gt, xModel / s, yModel / s));
+  const t = createDetectionTable(epsgName(p.frameEpsg), dets.count);
+  for (let i = 0; i < dets.count; i++) {
+    const cx = dets.cxPx[i], cy = dets.cyPx[i], a = dets.angleRad[i];
+    const hl = dets.lengthPx[i] / 2, hw = dets.widthPx[i] / 2;
+    const c = map(cx, cy);
+    const pl = map(cx + Math.cos(a) * hl, cy + Math.sin(a) * hl);
+    const pw = map(cx - Math.sin(a) * hw, cy + Math.cos(a) * hw);
+    t.cxM[i] = c[0];
+    t.cyM[i] = c[1];
+    t.lengthM[i] = 2 * Math.hypot(pl[0] - c[0], pl[1] - c[1]);
+    t.widthM[i] = 2 * Math.hypot(pw[0] - c[0], pw[1] - c[1]);
+    t.angleRad[i] = normaliseAxisAngle(Math.atan2(pl[1] - c[1], pl[0] - c[0]));
+    t.score[i] = dets.score[i];
+    t.classIdx[i] = dets.classIdx[i];
+    t.sceneIdx[i] = p.sceneIdx;
+  }
+  t.count = dets.count;
+  return t;
+}
+
+/** A tile's pixels as read (null when its read window is empty), with the read time. */
+export interface TileRead { win: RasterWindow | null; readMs: number }
+
+/** Read phase of a tile (file I/O and tile decoding through the source's cache). */
+export async function readTile(p: ScenePipeline, tile: PlannedTile, signal?: AbortSignal): Promise<TileRead> {
+  const r = tile.readScenePx;
+  if (r.maxXPx <= r.minXPx || r.maxYPx <= r.minYPx) return { win: null, readMs: 0 };
+  const t0 = now();
+  const win = await p.source.readWindow(r, { signal });
+  return { win, readMs: now() - t0 };
+}
+
+/** Compute phase of a tile: resample + normalise, infer, decode, core rule, ground frame. */
+export async function processTile(p: ScenePipeline, tile: PlannedTile, read: TileRead, scratch: TileScratch, infer: InferFn, signal?: AbortSignal): Promise<TileResult> {
+  if (scratch.tilePx !== p.plan.tilePx) throw new Error(`scratch is for ${scratch.tilePx} px tiles, plan uses ${p.plan.tilePx}`);
+  const timings: TileTimings = { readMs: read.readMs, resampleMs: 0, inferMs: 0, decodeMs: 0 };
+  const empty = () => ({ tile, table: createDetectionTable(epsgName(p.frameEpsg), 0), skipped: true, timings });
+  if (!read.win) return empty();
+  let t0 = now();
+  const hasPixels = fillTensor(p, tile, read.win, scratch);
+  timings.resampleMs = now() - t0;
+  if (!hasPixels) return empty();
+  if (signal?.aborted) throw new SeamtallyError('cancelled', 'The run was cancelled.');
+  t0 = now();
+  const outputs = await infer(scratch.tensor, [1, 3, scratch.tilePx, scratch.tilePx]);
+  timings.inferMs = now() - t0;
+  t0 = now();
+  const wm = tile.windowModelPx;
+  const dets = decodeOutputs(p.sidecar, outputs, { minScore: p.minScore, tileOriginPx: [wm.minXPx, wm.minYPx] });
+  const table = toGroundFrame(p, keepCoreCentres(dets, tile.corePx));
+  timings.decodeMs = now() - t0;
+  return { tile, table, skipped: false, timings };
+}
+
+/** Run one tile end to end (read, then process). */
+export async function runTile(p: ScenePipeline, tile: PlannedTile, scratch: TileScratch, infer: InferFn, signal?: AbortSignal): Promise<TileResult> {
+  return processTile(p, tile, await readTile(p, tile, signal), scratch, infer, signal);
+}
+
+export interface RunProgress {
+  sceneIdx: number;
+  tilesDone: number;
+  tilesTotal: number;
+  /** Scene pixels whose tiles are done (core area, in scene pixels). */
+  scenePxDone: number;
+  elapsedMs: number;
+}
+
+export interface RunSceneOptions {
+  signal?: AbortSignal;
+  onProgress?: (p: RunProgress) => void;
+  /** Run only these tiles (e.g. tiles touching an AOI, or the ones left after a resume). Default: all. */
+  tiles?: readonly PlannedTile[];
+  /** Called with each finished tile (e.g. to stream detections to the page or persist progress). */
+  onTile?: (r: TileResult) => void;
+  scratch?: TileScratch;
+  /** Start reading tile k+1 before tile k infers (default true). Off gives clean per-phase timings. */
+  prefetch?: boolean;
+}
+
+export interface SceneRunResult {
+  tables: DetectionTable[];
+  tilesRun: number;
+  tilesSkipped: number;
+  timings: TileTimings;
+  elapsedMs: number;
+}
+
+/** Run the tiles of one scene in order, reusing one tensor; reads the next tile while the current one infers. */
+export async function runScene(p: ScenePipeline, infer: InferFn, opts: RunSceneOptions = {}): Promise<SceneRunResult> {
+  const tiles = opts.tiles ?? p.plan.tiles;
+  const scratch = opts.scratch ?? createTileScratch(p.plan.tilePx);
+  const totals: TileTimings = { readMs: 0, resampleMs: 0, inferMs: 0, decodeMs: 0 };
+  const tables: DetectionTable[] = [];
+  const start = now();
+  let skipped = 0;
+  let scenePxDone = 0;
+  const s2 = p.plan.scale * p.plan.scale;
+  const prefetch = opts.prefetch ?? true;
+  let next: Promise<TileRead> | null = tiles.length ? readTile(p, tiles[0], opts.signal) : null;
+  for (let k = 0; k < tiles.length; k++) {
+    if (opts.signal?.aborted) throw new SeamtallyError('cancelled', 'The run was cancelled.');
+    const read = await next!;
+    next = null;
+    if (prefetch && k + 1 < tiles.length) {
+      next = readTile(p, tiles[k + 1], opts.signal);
+      next.catch(() => undefined); // a failure surfaces when awaited; this keeps it from being reported as unhandled
+    }
+    const r = await processTile(p, tiles[k], read, scratch, infer, opts.signal);
+    if (!prefetch && k + 1 < tiles.length) next = readTile(p, tiles[k + 1], opts.signal);
+    for (const key of Object.keys(totals) as (keyof TileTimings)[]) totals[key] += r.timings[key];
+    if (r.skipped) skipped++;
+    if (r.table.count) tables.push(r.table);
+    opts.onTile?.(r);
+    const c = tiles[k].corePx;
+    scenePxDone += ((c.maxXPx - c.minXPx) * (c.maxYPx - c.minYPx)) / s2;
+    opts.onProgress?.({ sceneIdx: p.sceneIdx, tilesDone: k + 1, tilesTotal: tiles.length, scenePxDone, elapsedMs: now() - start });
+  }
+  return { tables, tilesRun: tiles.length - skipped, tilesSkipped: skipped, timings: totals, elapsedMs: now() - start };
+}

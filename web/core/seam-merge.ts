@@ -1,0 +1,101 @@
+// Seam merging: keep each tile's detections whose centre lies in its core, then remove cross-tile/scene duplicates by NMS.
+import { greedyNms, softNms, type SoftNmsOptions } from './nms.ts';
+import type { PixelDetections } from './decode-outputs.ts';
+import { createDetectionTable, type DetectionTable, type PixelBox } from './types.ts';
+
+/** Default IoU above which two same-class detections of one date are one object (common practice, no source). */
+export const DEFAULT_MERGE_IOU = 0.5;
+
+/**
+ * Step 1 of the counting rule: a detection belongs to the tile whose core holds its centre. Cores are half-open
+ * ([min, max) on both axes), so a centre exactly on a seam belongs to exactly one tile (the one to its right/below).
+ * `dets` centres must be in the same frame as `corePx` (model pixels of the resampled scene: decode with
+ * `tileOriginPx` = the window's top-left).
+ */
+export function keepCoreCentres(dets: PixelDetections, corePx: PixelBox): PixelDetections {
+  const keep: number[] = [];
+  for (let i = 0; i < dets.count; i++) {
+    const x = dets.cxPx[i], y = dets.cyPx[i];
+    if (x >= corePx.minXPx && x < corePx.maxXPx && y >= corePx.minYPx && y < corePx.maxYPx) keep.push(i);
+  }
+  return selectPixelRows(dets, keep);
+}
+
+/** The given rows of a pixel detection table, in the given order. */
+export function selectPixelRows(dets: PixelDetections, rows: ArrayLike<number>): PixelDetections {
+  const n = rows.length;
+  const out: PixelDetections = {
+    count: n,
+    cxPx: new Float64Array(n), cyPx: new Float64Array(n), lengthPx: new Float32Array(n), widthPx: new Float32Array(n),
+    angleRad: new Float32Array(n), score: new Float32Array(n), classIdx: new Uint8Array(n),
+  };
+  for (let k = 0; k < n; k++) {
+    const i = rows[k];
+    out.cxPx[k] = dets.cxPx[i]; out.cyPx[k] = dets.cyPx[i];
+    out.lengthPx[k] = dets.lengthPx[i]; out.widthPx[k] = dets.widthPx[i]; out.angleRad[k] = dets.angleRad[i];
+    out.score[k] = dets.score[i]; out.classIdx[k] = dets.classIdx[i];
+  }
+  return out;
+}
+
+export interface MergeOptions {
+  /** Same-class detections with IoU (in ground metres) above this are duplicates. Default DEFAULT_MERGE_IOU = 0.5. */
+  iouThreshold?: number;
+  /** Use Soft-NMS instead of greedy NMS (scores of kept rows are then the decayed scores). Default: greedy. */
+  soft?: SoftNmsOptions;
+  /** Drop detections with score ≤ this before merging. Default: keep all. */
+  scoreThreshold?: number;
+}
+
+/** Concatenate tables of one metric frame. Throws (programmer error) when frames differ. */
+export function concatDetectionTables(tables: readonly DetectionTable[]): DetectionTable {
+  if (tables.length === 0) return createDetectionTable('', 0);
+  const frame = tables[0].frameCrs;
+  let n = 0;
+  for (const t of tables) {
+    if (t.frameCrs !== frame) throw new Error(`Cannot merge detections in ${t.frameCrs} with detections in ${frame}: convert them to one frame first.`);
+    n += t.count;
+  }
+  const out = createDetectionTable(frame, n);
+  let o = 0;
+  for (const t of tables) {
+    const c = t.count;
+    out.cxM.set(t.cxM.subarray(0, c), o); out.cyM.set(t.cyM.subarray(0, c), o);
+    out.lengthM.set(t.lengthM.subarray(0, c), o); out.widthM.set(t.widthM.subarray(0, c), o);
+    out.angleRad.set(t.angleRad.subarray(0, c), o); out.score.set(t.score.subarray(0, c), o);
+    out.classIdx.set(t.classIdx.subarray(0, c), o); out.sceneIdx.set(t.sceneIdx.subarray(0, c), o);
+    o += c;
+  }
+  out.count = n;
+  return out;
+}
+
+/** The given rows of a detection table, in the given order. */
+export function selectRows(t: DetectionTable, rows: ArrayLike<number>): DetectionTable {
+  const n = rows.length;
+  const out = createDetectionTable(t.frameCrs, n);
+  for (let k = 0; k < n; k++) {
+    const i = rows[k];
+    out.cxM[k] = t.cxM[i]; out.cyM[k] = t.cyM[i]; out.lengthM[k] = t.lengthM[i]; out.widthM[k] = t.widthM[i];
+    out.angleRad[k] = t.angleRad[i]; out.score[k] = t.score[i]; out.classIdx[k] = t.classIdx[i]; out.sceneIdx[k] = t.sceneIdx[i];
+  }
+  out.count = n;
+  return out;
+}
+
+/**
+ * Step 2: merge the tables of all tiles and all scenes of one date (already in one metric frame) and remove
+ * remaining duplicates (e.g. two overlapping scenes seeing the same car) with class-aware NMS in ground metres.
+ * Rows come out sorted by score descending.
+ */
+export function mergeDetectionTables(tables: readonly DetectionTable[], opts: MergeOptions = {}): DetectionTable {
+  const all = concatDetectionTables(tables);
+  if (opts.soft) {
+    const r = softNms(all, { ...opts.soft, iouThreshold: opts.soft.iouThreshold ?? opts.iouThreshold });
+    const out = selectRows(all, r.keep);
+    out.score.set(r.score);
+    return out;
+  }
+  const keep = greedyNms(all, { iouThreshold: opts.iouThreshold ?? DEFAULT_MERGE_IOU, scoreThreshold: opts.scoreThreshold });
+  return selectRows(all, keep);
+}

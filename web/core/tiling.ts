@@ -1,0 +1,179 @@
+// Tiling plan: the scene resampled to the model GSD, cut into tiles whose cores partition it, with overlap from object size.
+import { SeamtallyError } from './errors.ts';
+import type { PixelBox } from './types.ts';
+
+/**
+ * Conventions
+ * - Planning happens in MODEL pixels over the scene resampled to the model's GSD: scale = sceneGsdM / modelGsdM,
+ *   model x = scene x × scale. The resampled grid is modelWidthPx = ceil(sceneWidthPx × scale) wide (same for
+ *   height), so it may reach up to one model pixel past the scene's far edge; that sliver reads as nodata.
+ * - Cores are half-open boxes [min, max) on a regular grid of step corePx = tilePx − 2·overlapPx. They partition the
+ *   resampled scene exactly: every model pixel lies in exactly one core. Cores in the last column/row are narrower.
+ * - A window is the core grown by overlapPx on each side. At scene edges the window is SHIFTED inward (not clipped)
+ *   so it stays tilePx wide: no inference is wasted on padding and the core keeps ≥ overlapPx of context on its
+ *   inner side. Only when the scene itself is smaller than tilePx along an axis is the window the whole scene
+ *   along that axis; the pipeline then pads the model input (right/bottom) to tilePx.
+ * - overheadRatio = Σ window pixels / scene pixels, both in model pixels (padding is not counted).
+ */
+
+export interface TilePlanInput {
+  sceneWidthPx: number;
+  sceneHeightPx: number;
+  sceneGsdM: number;
+  modelGsdM: number;
+  /** The model's square input size in model pixels. */
+  tilePx: number;
+  /** Largest extent (e.g. the diagonal) of any object class, in metres; drives the automatic overlap. */
+  maxObjectExtentM: number;
+  /** Overlap on each side in model pixels, or 'auto' (default): see `autoOverlapPx`. */
+  overlapPx?: number | 'auto';
+  /** Extra scene pixels around each integer read window for the resampling kernel. Default 1. */
+  readPadPx?: number;
+}
+
+export interface PlannedTile {
+  index: number;
+  col: number;
+  row: number;
+  /** The tile's core in model pixels (half-open). A detection belongs to the tile whose core holds its centre. */
+  corePx: PixelBox;
+  /** Core grown by the overlap (shifted inward at scene edges), model pixels (half-open). The model's input. */
+  windowModelPx: PixelBox;
+  /** The same window in scene pixels (exact floats): windowModelPx / scale. */
+  windowScenePx: PixelBox;
+  /** Integer scene-pixel window to read: windowScenePx rounded outward, grown by readPadPx, clipped to the scene. */
+  readScenePx: PixelBox;
+}
+
+export interface TilePlan {
+  sceneWidthPx: number;
+  sceneHeightPx: number;
+  sceneGsdM: number;
+  modelGsdM: number;
+  /** sceneGsdM / modelGsdM: model pixels per scene pixel (> 1 means the scene is upsampled). */
+  scale: number;
+  modelWidthPx: number;
+  modelHeightPx: number;
+  tilePx: number;
+  overlapPx: number;
+  /** Core step: tilePx − 2·overlapPx. */
+  coreStepPx: number;
+  cols: number;
+  rows: number;
+  tiles: PlannedTile[];
+  /** Pixels inferred / scene pixels, in model pixels. */
+  overheadRatio: number;
+}
+
+/** Model pixels added to the automatic overlap for the resampling kernel and rounding. */
+export const AUTO_OVERLAP_MARGIN_PX = 2;
+
+/**
+ * Automatic overlap in model pixels: ceil(maxObjectExtentM / modelGsdM) + AUTO_OVERLAP_MARGIN_PX.
+ * Half the extent would already put every object wholly inside the window of the tile whose core holds its centre;
+ * the full extent also gives the detector one more object-size of context around it.
+ */
+export function autoOverlapPx(maxObjectExtentM: number, modelGsdM: number): number {
+  return Math.ceil(maxObjectExtentM / modelGsdM - 1e-9) + AUTO_OVERLAP_MARGIN_PX;
+}
+
+function positive(name: string, v: number): void {
+  if (!(typeof v === 'number' && Number.isFinite(v) && v > 0)) {
+    throw new SeamtallyError('bad-argument', `The tiling needs ${name} to be a positive number, but it is ${v}.`);
+  }
+}
+
+/** Core starts along one axis plus, for each, the window start (shifted inward) and length. */
+function axisPlan(extentPx: number, tilePx: number, overlapPx: number, stepPx: number) {
+  // A scene no larger than one tile is one tile: several cores would share the same window.
+  const n = extentPx <= tilePx ? 1 : Math.ceil(extentPx / stepPx);
+  const core: Array<[number, number]> = [];
+  const win: Array<[number, number]> = [];
+  for (let k = 0; k < n; k++) {
+    const c0 = k * stepPx;
+    const c1 = n === 1 ? extentPx : Math.min(extentPx, c0 + stepPx);
+    core.push([c0, c1]);
+    if (extentPx <= tilePx) { win.push([0, extentPx]); continue; }
+    let w0 = c0 - overlapPx;
+    if (w0 < 0) w0 = 0;
+    if (w0 + tilePx > extentPx) w0 = extentPx - tilePx;
+    win.push([w0, w0 + tilePx]);
+  }
+  return { n, core, win };
+}
+
+/** Plan the tiles of one scene. Throws SeamtallyError('bad-argument') when the overlap leaves no core. */
+export function planTiles(input: TilePlanInput): TilePlan {
+  const { sceneWidthPx, sceneHeightPx, sceneGsdM, modelGsdM, tilePx, maxObjectExtentM } = input;
+  positive('sceneWidthPx', sceneWidthPx); positive('sceneHeightPx', sceneHeightPx);
+  positive('sceneGsdM', sceneGsdM); positive('modelGsdM', modelGsdM); positive('tilePx', tilePx);
+  if (!Number.isInteger(sceneWidthPx) || !Number.isInteger(sceneHeightPx) || !Number.isInteger(tilePx)) {
+    throw new SeamtallyError('bad-argument', 'Scene size and tile size must be whole numbers of pixels.');
+  }
+  if (!(maxObjectExtentM >= 0)) {
+    throw new SeamtallyError('bad-argument', `The largest object extent must be ≥ 0 m, but it is ${maxObjectExtentM}.`);
+  }
+  const ov = input.overlapPx ?? 'auto';
+  const overlapPx = ov === 'auto' ? autoOverlapPx(maxObjectExtentM, modelGsdM) : ov;
+  if (!Number.isInteger(overlapPx) || overlapPx < 0) {
+    throw new SeamtallyError('bad-argument', `The overlap must be a whole number of pixels ≥ 0 or "auto", not ${ov}.`);
+  }
+  const coreStepPx = tilePx - 2 * overlapPx;
+  if (coreStepPx < 1) {
+    throw new SeamtallyError('bad-argument',
+      `An overlap of ${overlapPx} px on each side leaves no core in a ${tilePx} px tile: use a tile larger than ${2 * overlapPx} px or a smaller overlap.`);
+  }
+  const scale = sceneGsdM / modelGsdM;
+  const modelWidthPx = Math.max(1, Math.ceil(sceneWidthPx * scale - 1e-9));
+  const modelHeightPx = Math.max(1, Math.ceil(sceneHeightPx * scale - 1e-9));
+  const xs = axisPlan(modelWidthPx, tilePx, overlapPx, coreStepPx);
+  const ys = axisPlan(modelHeightPx, tilePx, overlapPx, coreStepPx);
+  const pad = input.readPadPx ?? 1;
+  const tiles: PlannedTile[] = [];
+  let inferredPx = 0;
+  for (let r = 0; r < ys.n; r++) {
+    for (let c = 0; c < xs.n; c++) {
+      const windowModelPx = { minXPx: xs.win[c][0], minYPx: ys.win[r][0], maxXPx: xs.win[c][1], maxYPx: ys.win[r][1] };
+      const windowScenePx = {
+        minXPx: windowModelPx.minXPx / scale, minYPx: windowModelPx.minYPx / scale,
+        maxXPx: windowModelPx.maxXPx / scale, maxYPx: windowModelPx.maxYPx / scale,
+      };
+      tiles.push({
+        index: tiles.length, col: c, row: r,
+        corePx: { minXPx: xs.core[c][0], minYPx: ys.core[r][0], maxXPx: xs.core[c][1], maxYPx: ys.core[r][1] },
+        windowModelPx, windowScenePx,
+        readScenePx: {
+          minXPx: Math.max(0, Math.floor(windowScenePx.minXPx + 1e-9) - pad),
+          minYPx: Math.max(0, Math.floor(windowScenePx.minYPx + 1e-9) - pad),
+          maxXPx: Math.min(sceneWidthPx, Math.ceil(windowScenePx.maxXPx - 1e-9) + pad),
+          maxYPx: Math.min(sceneHeightPx, Math.ceil(windowScenePx.maxYPx - 1e-9) + pad),
+        },
+      });
+      inferredPx += (windowModelPx.maxXPx - windowModelPx.minXPx) * (windowModelPx.maxYPx - windowModelPx.minYPx);
+    }
+  }
+  return {
+    sceneWidthPx, sceneHeightPx, sceneGsdM, modelGsdM, scale, modelWidthPx, modelHeightPx, tilePx, overlapPx,
+    coreStepPx, cols: xs.n, rows: ys.n, tiles, overheadRatio: inferredPx / (modelWidthPx * modelHeightPx),
+  };
+}
+
+/** The tiles for which `predicate` holds (e.g. windows that touch an AOI or hold any valid pixel). */
+export function tilesTouching(plan: TilePlan, predicate: (tile: PlannedTile) => boolean): PlannedTile[] {
+  return plan.tiles.filter(predicate);
+}
+
+/** Overhead of a subset of tiles: their window pixels / the pixels of their cores (both in model pixels). */
+export function subsetOverheadRatio(tiles: readonly PlannedTile[]): number {
+  let win = 0, core = 0;
+  for (const t of tiles) {
+    win += (t.windowModelPx.maxXPx - t.windowModelPx.minXPx) * (t.windowModelPx.maxYPx - t.windowModelPx.minYPx);
+    core += (t.corePx.maxXPx - t.corePx.minXPx) * (t.corePx.maxYPx - t.corePx.minYPx);
+  }
+  return core > 0 ? win / core : 0;
+}
+
+/** Convert a model-pixel position of a plan to scene pixels. */
+export function modelToScenePx(plan: TilePlan, xModelPx: number, yModelPx: number): [number, number] {
+  return [xModelPx / plan.scale, yModelPx / plan.scale];
+}

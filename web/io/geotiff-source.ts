@@ -1,0 +1,325 @@
+// geotiff.js SceneSource over a File/Blob, a URL (range requests) or a Node file path, reading file-tile-aligned
+// blocks through a bounded LRU so overlapping windows decode each file tile once. No DOM: runs in workers and Node.
+import { GeoTIFF, fromFile, fromUrl, type GeoTIFFImage } from 'geotiff';
+import { SeamtallyError } from '../core/errors.ts';
+import { sceneGeoref, type SceneGeoref } from '../core/georef.ts';
+import type { UserCrsDefs } from '../core/crs.ts';
+import type { PixelBox } from '../core/types.ts';
+import { TileCache } from '../core/tile-cache.ts';
+import {
+  allocSamples, levelSize, type LevelSize, type RasterWindow, type ReadWindowOptions, type SampleArray, type SampleDtype,
+  type SceneInfo, type SceneSource,
+} from '../core/scene-source.ts';
+
+export interface GeoTiffSourceOptions {
+  /** Display name (file name). Default: 'scene'. */
+  name?: string;
+  /** Size of the whole file in bytes, when known (Blob.size, fs.stat): enables the truncation check. */
+  byteLength?: number;
+  /** Byte budget of this source's decoded-tile cache. Default 128 MiB. Ignored when `cache` is given. */
+  cacheBytes?: number;
+  /** A cache shared between sources (keys are prefixed per source). */
+  cache?: TileCache<DecodedBlock>;
+  /** Extra CRS definitions (EPSG code → proj4). */
+  userDefs?: UserCrsDefs;
+  signal?: AbortSignal;
+}
+
+/** One decoded file tile (or group of strips): band-separated samples. */
+export interface DecodedBlock {
+  widthPx: number;
+  heightPx: number;
+  bands: SampleArray[];
+  byteLength: number;
+}
+
+/** Rows per block when the file is stripped (strips are grouped until a block has at least this many rows). */
+const STRIP_BLOCK_MIN_ROWS = 64;
+let sourceCounter = 0;
+
+/** Open a File or Blob (browser page or worker). */
+export async function openGeoTiffBlob(blob: Blob, opts: GeoTiffSourceOptions = {}): Promise<SceneSource> {
+  const name = opts.name ?? ('name' in blob && typeof blob.name === 'string' ? blob.name : 'scene');
+  await checkMagic(new Uint8Array(await blob.slice(0, 8).arrayBuffer()), name);
+  return openTiff(() => GeoTIFF.fromSource(blobSource(blob), undefined, opts.signal), { ...opts, name, byteLength: opts.byteLength ?? blob.size });
+}
+
+/**
+ * A geotiff.js byte source over a Blob via `blob.slice().arrayBuffer()`, which exists in pages, workers and Node
+ * (geotiff's own fromBlob needs FileReader, which Node lacks).
+ */
+function blobSource(blob: Blob): Parameters<typeof GeoTIFF.fromSource>[0] {
+  const src = {
+    async fetch(slices: { offset: number; length: number }[], signal?: AbortSignal): Promise<ArrayBuffer[]> {
+      if (signal?.aborted) throw new SeamtallyError('cancelled', 'The run was cancelled.');
+      return Promise.all(slices.map((s) => blob.slice(s.offset, s.offset + s.length).arrayBuffer()));
+    },
+    async fetchSlice(s: { offset: number; length: number }) {
+      return { data: await blob.slice(s.offset, s.offset + s.length).arrayBuffer(), offset: s.offset, length: s.length };
+    },
+    get fileSize() { return blob.size; },
+    async close() {},
+  };
+  return src as unknown as Parameters<typeof GeoTIFF.fromSource>[0];
+}
+
+/** Open a URL with HTTP range requests (1 MiB blocks, 32 cached blocks). */
+export async function openGeoTiffUrl(url: string, opts: GeoTiffSourceOptions = {}): Promise<SceneSource> {
+  const name = opts.name ?? (url.split('/').pop() || url);
+  // blockSize/cacheSize reach geotiff's BlockedSource at runtime; its .d.ts types RemoteSourceOptions without them.
+  const remote = { blockSize: 1 << 20, cacheSize: 32 } as Parameters<typeof fromUrl>[1];
+  return openTiff(() => fromUrl(url, remote, opts.signal), { ...opts, name });
+}
+
+/** Open a file path (Node only: geotiff's fromFile). Pass `byteLength` (fs.statSync(path).size) and `head` for checks. */
+export async function openGeoTiffPath(path: string, opts: GeoTiffSourceOptions & { head?: Uint8Array } = {}): Promise<SceneSource> {
+  const name = opts.name ?? (path.split(/[\\/]/).pop() || path);
+  if (opts.head) await checkMagic(opts.head, name);
+  return openTiff(() => fromFile(path, opts.signal), { ...opts, name });
+}
+
+/** Throw 'not-tiff' unless the bytes start with a TIFF or BigTIFF header (TIFF 6.0 §2; BigTIFF: version 43). */
+export async function checkMagic(head: Uint8Array, name: string): Promise<void> {
+  const le = head[0] === 0x49 && head[1] === 0x49;
+  const be = head[0] === 0x4d && head[1] === 0x4d;
+  const version = le ? head[2] | (head[3] << 8) : be ? (head[2] << 8) | head[3] : -1;
+  if (head.length < 8 || !(version === 42 || version === 43)) {
+    throw new SeamtallyError('not-tiff', `"${name}" is not a TIFF file (it does not start with a TIFF header): choose a GeoTIFF or COG (.tif).`, { name });
+  }
+}
+
+function classify(err: unknown, name: string, stage: 'open' | 'read'): unknown {
+  if (err instanceof SeamtallyError) return err;
+  if (err instanceof Error && err.name === 'AbortError') return err;
+  const msg = err instanceof Error ? err.message : String(err);
+  if (/Invalid byte order|Invalid magic number/i.test(msg)) {
+    return new SeamtallyError('not-tiff', `"${name}" is not a TIFF file: choose a GeoTIFF or COG (.tif).`, { name });
+  }
+  if (/compression|decoder/i.test(msg)) {
+    return new SeamtallyError('unsupported-raster', `"${name}" uses a compression seamtally cannot decode (${msg}): rewrite it with gdal_translate -co COMPRESS=DEFLATE.`, { name });
+  }
+  if (err instanceof RangeError || /out of bounds|offset|ENOENT/i.test(msg)) {
+    if (/ENOENT/.test(msg)) return new SeamtallyError('bad-argument', `"${name}" does not exist: check the path.`, { name });
+    return new SeamtallyError('truncated', `"${name}" is cut short or damaged (${stage === 'open' ? 'its header' : 'its pixel data'} cannot be read): copy or download the file again.`, { name });
+  }
+  return new SeamtallyError('unsupported-raster', `"${name}" could not be read as a GeoTIFF (${msg}): check it with gdalinfo, or rewrite it with gdal_translate.`, { name });
+}
+
+const DTYPES: Record<string, SampleDtype> = {
+  '1:8': 'uint8', '1:16': 'uint16', '1:32': 'uint32', '2:8': 'int8', '2:16': 'int16', '2:32': 'int32', '3:32': 'float32', '3:64': 'float64',
+};
+
+function dtypeOf(image: GeoTIFFImage): { dtype: SampleDtype; bits: number; significantBits: number } {
+  const fmt = image.getSampleFormat(0) ?? 1;
+  const bits = image.getBitsPerSample(0);
+  const stored = fmt === 3 ? bits : bits <= 8 ? 8 : bits <= 16 ? 16 : 32;
+  const dtype = DTYPES[`${fmt}:${stored}`];
+  if (!dtype) throw new SeamtallyError('unsupported-raster', `This file stores ${bits}-bit samples of format ${fmt}, which seamtally cannot read: convert it with gdal_translate -ot UInt16.`);
+  return { dtype, bits: stored, significantBits: bits };
+}
+
+/** Images that are reduced-resolution versions of the first (NewSubfileType bit 0), masks (bit 2) left out. */
+async function overviewImages(tiff: GeoTIFF, main: GeoTIFFImage): Promise<GeoTIFFImage[]> {
+  const n = await tiff.getImageCount();
+  const out: GeoTIFFImage[] = [];
+  for (let i = 1; i < n; i++) {
+    const img = await tiff.getImage(i);
+    const subfile = Number(img.getFileDirectory().getValue('NewSubfileType') ?? 0);
+    if ((subfile & 4) !== 0 || (subfile & 1) === 0) continue;
+    if (img.getWidth() >= main.getWidth() || img.getSamplesPerPixel() !== main.getSamplesPerPixel()) continue;
+    out.push(img);
+  }
+  return out.sort((a, b) => b.getWidth() - a.getWidth());
+}
+
+async function maxDataEnd(image: GeoTIFFImage): Promise<number> {
+  const fd = image.getFileDirectory();
+  const tiled = fd.hasTag('TileOffsets');
+  const offs = (await fd.loadValue(tiled ? 'TileOffsets' : 'StripOffsets')) as ArrayLike<number | bigint> | number | undefined;
+  const cnts = (await fd.loadValue(tiled ? 'TileByteCounts' : 'StripByteCounts')) as ArrayLike<number | bigint> | number | undefined;
+  if (offs === undefined || cnts === undefined) return 0;
+  const o = typeof offs === 'number' ? [offs] : offs;
+  const c = typeof cnts === 'number' ? [cnts] : cnts;
+  let end = 0;
+  for (let i = 0; i < o.length; i++) end = Math.max(end, Number(o[i]) + Number(c[i] ?? 0));
+  return end;
+}
+
+function tiffDate(value: unknown): string | null {
+  if (typeof value !== 'string') return null;
+  const m = /^(\d{4})[:-](\d{2})[:-](\d{2})/.exec(value.trim());
+  return m ? `${m[1]}-${m[2]}-${m[3]}` : null;
+}
+
+async function openTiff(open: () => Promise<GeoTIFF>, opts: GeoTiffSourceOptions & { name: string }): Promise<SceneSource> {
+  const name = opts.name;
+  let tiff: GeoTIFF;
+  let main: GeoTIFFImage;
+  let overviews: GeoTIFFImage[];
+  let info: SceneInfo;
+  try {
+    tiff = await open();
+    main = await tiff.getImage(0);
+    overviews = await overviewImages(tiff, main);
+    if (opts.byteLength !== undefined) {
+      for (const img of [main, ...overviews]) {
+        if ((await maxDataEnd(img)) > opts.byteLength) {
+          throw new SeamtallyError('truncated', `"${name}" is cut short: its pixel data runs past the end of the file (${opts.byteLength} bytes). Copy or download the file again.`, { name });
+        }
+      }
+    }
+    const fd = main.getFileDirectory();
+    const georef: SceneGeoref = sceneGeoref(
+      {
+        widthPx: main.getWidth(),
+        heightPx: main.getHeight(),
+        tags: {
+          modelPixelScale: (await fd.loadValue('ModelPixelScale')) as ArrayLike<number> | undefined,
+          modelTiepoint: (await fd.loadValue('ModelTiepoint')) as ArrayLike<number> | undefined,
+          modelTransformation: (await fd.loadValue('ModelTransformation')) as ArrayLike<number> | undefined,
+        },
+        geoKeys: main.getGeoKeys() as Record<string, number | string | number[]> | null,
+      },
+      { userDefs: opts.userDefs },
+    );
+    const { dtype, bits, significantBits } = dtypeOf(main);
+    const bandCount = main.getSamplesPerPixel();
+    const meta = (await main.getGDALMetadata()) ?? {};
+    const bandNames: string[] = [];
+    for (let b = 0; b < bandCount; b++) {
+      const m = (await main.getGDALMetadata(b)) ?? {};
+      bandNames.push(typeof m.DESCRIPTION === 'string' ? m.DESCRIPTION : '');
+    }
+    const nbits = Number(meta.NBITS);
+    const photometric = fd.hasTag('PhotometricInterpretation') ? Number(fd.getValue('PhotometricInterpretation')) : null;
+    info = {
+      name,
+      widthPx: main.getWidth(),
+      heightPx: main.getHeight(),
+      bandCount: photometric === 6 || photometric === 3 ? 3 : bandCount,
+      dtype: photometric === 6 || photometric === 3 ? 'uint8' : dtype,
+      bitsPerSample: bits,
+      significantBits: Number.isInteger(nbits) && nbits > 0 && nbits <= bits ? nbits : significantBits,
+      nodata: main.getGDALNoData(),
+      tileWidthPx: main.getTileWidth(),
+      tileHeightPx: main.getTileHeight(),
+      overviews: overviews.map((o) => ({ widthPx: o.getWidth(), heightPx: o.getHeight() })),
+      bandNames,
+      photometric,
+      acquisitionDate: tiffDate(fd.hasTag('DateTime') ? await fd.loadValue('DateTime') : undefined) ?? tiffDate(meta.ACQUISITIONDATETIME),
+      georef,
+    };
+  } catch (err) {
+    throw classify(err, name, 'open');
+  }
+  return new GeoTiffSource(tiff, [main, ...overviews], info, opts);
+}
+
+class GeoTiffSource implements SceneSource {
+  readonly info: SceneInfo;
+  private readonly cache: TileCache<DecodedBlock>;
+  private readonly keyPrefix: string;
+  private readonly asRgb: boolean;
+
+  constructor(private readonly tiff: GeoTIFF, private readonly levels: GeoTIFFImage[], info: SceneInfo, opts: GeoTiffSourceOptions) {
+    this.info = info;
+    this.cache = opts.cache ?? new TileCache<DecodedBlock>({ maxBytes: opts.cacheBytes ?? 128 * 1024 * 1024 });
+    this.keyPrefix = `s${sourceCounter++}`;
+    this.asRgb = info.photometric === 6 || info.photometric === 3;
+  }
+
+  /** Block grid of a level: file tiles, or groups of whole strips. */
+  private blockSize(level: number): { bw: number; bh: number } {
+    const img = this.levels[level];
+    const tw = img.getTileWidth();
+    const th = img.getTileHeight();
+    if (img.getFileDirectory().hasTag('TileOffsets')) return { bw: tw, bh: th };
+    return { bw: img.getWidth(), bh: Math.ceil(STRIP_BLOCK_MIN_ROWS / th) * th };
+  }
+
+  private async loadBlock(level: number, bx: number, by: number, size: LevelSize, signal?: AbortSignal): Promise<DecodedBlock> {
+    const img = this.levels[level];
+    const { bw, bh } = this.blockSize(level);
+    const x0 = bx * bw;
+    const y0 = by * bh;
+    const x1 = Math.min(size.widthPx, x0 + bw);
+    const y1 = Math.min(size.heightPx, y0 + bh);
+    let raw: ArrayLike<number>[];
+    try {
+      const window = [x0, y0, x1, y1];
+      raw = (this.asRgb
+        ? await img.readRGB({ window, interleave: false, signal })
+        : await img.readRasters({ window, interleave: false, signal })) as unknown as ArrayLike<number>[];
+    } catch (err) {
+      throw classify(err, this.info.name, 'read');
+    }
+    const bands = raw.slice(0, this.info.bandCount) as SampleArray[];
+    let byteLength = 0;
+    for (const b of bands) byteLength += b.byteLength;
+    return { widthPx: x1 - x0, heightPx: y1 - y0, bands, byteLength };
+  }
+
+  async readWindow(windowPx: PixelBox, opts: ReadWindowOptions = {}): Promise<RasterWindow> {
+    const level = opts.overviewLevel ?? 0;
+    const signal = opts.signal;
+    if (signal?.aborted) throw new SeamtallyError('cancelled', 'The run was cancelled.');
+    const size = levelSize(this.info, level);
+    const { minXPx, minYPx, maxXPx, maxYPx } = windowPx;
+    if (![minXPx, minYPx, maxXPx, maxYPx].every(Number.isInteger) || maxXPx < minXPx || maxYPx < minYPx) {
+      throw new Error(`readWindow needs an integer window with min <= max, got ${JSON.stringify(windowPx)}`);
+    }
+    const w = maxXPx - minXPx;
+    const h = maxYPx - minYPx;
+    const { bandCount, dtype, nodata } = this.info;
+    const bands = Array.from({ length: bandCount }, () => allocSamples(dtype, w * h));
+    const cx0 = Math.max(0, minXPx), cy0 = Math.max(0, minYPx);
+    const cx1 = Math.min(size.widthPx, maxXPx), cy1 = Math.min(size.heightPx, maxYPx);
+    const outsideFilled = cx0 > minXPx || cy0 > minYPx || cx1 < maxXPx || cy1 < maxYPx;
+    if (outsideFilled) for (const b of bands) b.fill(nodata ?? 0);
+    if (cx1 > cx0 && cy1 > cy0) {
+      const { bw, bh } = this.blockSize(level);
+      const jobs: Promise<void>[] = [];
+      for (let by = Math.floor(cy0 / bh); by * bh < cy1; by++) {
+        for (let bx = Math.floor(cx0 / bw); bx * bw < cx1; bx++) {
+          const key = `${this.keyPrefix}:${level}:${bx}:${by}`;
+          jobs.push(this.cache.getOrLoad(key, () => this.loadBlock(level, bx, by, size, signal)).then((blk) => {
+            copyBlock(blk, bx * bw, by * bh, bands, windowPx, cx0, cy0, cx1, cy1);
+          }));
+        }
+      }
+      await Promise.all(jobs);
+    }
+    if (signal?.aborted) throw new SeamtallyError('cancelled', 'The run was cancelled.');
+    return { windowPx, level, widthPx: w, heightPx: h, bandCount, bitsPerSample: this.info.bitsPerSample, dtype, nodata, outsideFilled, bands };
+  }
+
+  cacheStats() {
+    return this.cache.stats();
+  }
+
+  async close(): Promise<void> {
+    this.cache.clear();
+    await this.tiff.close();
+  }
+}
+
+function copyBlock(blk: DecodedBlock, bx0: number, by0: number, out: SampleArray[], win: PixelBox, cx0: number, cy0: number, cx1: number, cy1: number): void {
+  const x0 = Math.max(cx0, bx0), x1 = Math.min(cx1, bx0 + blk.widthPx);
+  const y0 = Math.max(cy0, by0), y1 = Math.min(cy1, by0 + blk.heightPx);
+  if (x1 <= x0 || y1 <= y0) return;
+  const ww = win.maxXPx - win.minXPx;
+  const n = x1 - x0;
+  for (let b = 0; b < out.length; b++) {
+    const src = blk.bands[b];
+    const dst = out[b];
+    for (let y = y0; y < y1; y++) {
+      const s = (y - by0) * blk.widthPx + (x0 - bx0);
+      (dst as Float64Array).set((src as Float64Array).subarray(s, s + n), (y - win.minYPx) * ww + (x0 - win.minXPx));
+    }
+  }
+}
+
+/** Cache statistics of a source opened here (hits/misses/evictions), for benchmarks. */
+export function sourceCacheStats(src: SceneSource): ReturnType<TileCache<DecodedBlock>['stats']> | null {
+  return src instanceof GeoTiffSource ? src.cacheStats() : null;
+}

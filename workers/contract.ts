@@ -1,0 +1,104 @@
+// The typed page–worker contract: every call the page makes into a worker, with plain-data arguments and results.
+// Worker APIs `satisfies` these interfaces; the page wraps workers with comlink as Remote<...> of them.
+import type { Result } from '../web/core/errors.ts';
+import type { DetectionTable } from '../web/core/types.ts';
+import type { SceneInfo } from '../web/core/scene-source.ts';
+import type { TilePlan } from '../web/core/tiling.ts';
+import type { BandSelection, Stretch } from '../web/core/radiometry.ts';
+
+/** A scene's bytes as the workers read them: a File from the picker / drop, or an http(s) URL read by ranges. */
+export type SceneInput = { kind: 'file'; file: File } | { kind: 'url'; url: string };
+
+/** Header facts about a scene plus what the page needs to show it. */
+export interface SceneDescription {
+  info: SceneInfo;
+  /** proj4 definition of the scene CRS (for the map). */
+  proj4Def: string;
+}
+
+/** An RGBA picture of the scene from one of its overviews (display stretch), and its valid-pixel mask. */
+export interface ScenePreview {
+  widthPx: number;
+  heightPx: number;
+  rgba: Uint8ClampedArray;
+  /** 1 = valid pixel, 0 = nodata; same grid as `rgba` (used for coverage). */
+  validMask: Uint8Array;
+  /** The overview level read (0 = full resolution). */
+  level: number;
+}
+
+/** What a worker reports after loading a model. */
+export interface ModelLoadInfo {
+  inputNames: string[];
+  outputNames: string[];
+  /** Threads per worker actually used (1 unless the page is cross-origin isolated). */
+  numThreads: number;
+}
+
+/** How a scene is prepared for a run (the same choices the CLI's detect makes). */
+export interface ScenePrepareOptions {
+  /** Index of the scene within its date's mosaic (goes into DetectionTable.sceneIdx). */
+  sceneIdx: number;
+  /** EPSG of the metric ground frame the date's detections are expressed in (core runFrameEpsg). */
+  frameEpsg: number;
+  /** Detections below this score are dropped in the worker (the run's floor, at or below the slider). */
+  minScore: number;
+  /** Model input size; default the sidecar's tilePx. */
+  tilePx?: number;
+  /** Overlap per side in model pixels or 'auto' (default). */
+  overlapPx?: number | 'auto';
+}
+
+/** The tiling and radiometry of a prepared scene (what the page needs to plan, show progress and filter tiles). */
+export interface ScenePlanInfo {
+  plan: TilePlan;
+  bands: BandSelection;
+  stretch: Stretch;
+}
+
+/** Everything a worker needs to run one tile of one scene. */
+export interface TileTask {
+  runId: string;
+  /** Key of the scene (its fingerprint); the worker keeps one open source per key. */
+  sceneKey: string;
+  input: SceneInput;
+  prepare: ScenePrepareOptions;
+  tileIndex: number;
+}
+
+/** Per-stage times of one tile, in milliseconds (core TileTimings). */
+export interface TileTimingsMs {
+  readMs: number;
+  resampleMs: number;
+  inferMs: number;
+  decodeMs: number;
+}
+
+/** Detections of one tile (already cut to the tile's core) in the date's ground frame, as typed arrays. */
+export interface TileDetections {
+  sceneKey: string;
+  tileIndex: number;
+  skipped: boolean;
+  table: DetectionTable;
+  timingsMs: TileTimingsMs;
+}
+
+/** The detector worker: reads windows straight from the File/URL, runs onnxruntime-web, returns typed arrays. */
+export interface DetectorApi {
+  describeScene(input: SceneInput): Promise<Result<SceneDescription>>;
+  previewScene(input: SceneInput, opts: { maxLongSidePx: number }): Promise<Result<ScenePreview>>;
+  loadModel(modelBytes: ArrayBuffer, sidecar: unknown, opts: { numThreads: number }): Promise<Result<ModelLoadInfo>>;
+  /** Prepare a scene with the loaded model (stretch, tile plan) and describe its plan. */
+  planScene(sceneKey: string, input: SceneInput, opts: ScenePrepareOptions): Promise<Result<ScenePlanInfo>>;
+  detectTile(task: TileTask): Promise<Result<TileDetections>>;
+  /** Stop work of `runId` as soon as possible (its pending tiles resolve as 'cancelled'). */
+  cancel(runId: string): void;
+  /** Drop the open source of a scene (e.g. when the scene is removed). */
+  forgetScene(sceneKey: string): Promise<void>;
+}
+
+/** Merging runs off the main thread in the tally worker. */
+export interface TallyApi {
+  /** Merge tile tables of one date (core-cut already) with cross-tile / cross-scene NMS in ground metres. */
+  mergeDate(tables: DetectionTable[], opts: { iouThreshold?: number }): Promise<Result<DetectionTable>>;
+}

@@ -1,0 +1,76 @@
+// Detector worker entry (thin): opens scenes from File/URL, runs the core pipeline with onnxruntime-web, returns typed arrays.
+import { expose, transfer } from 'comlink';
+import { toErrorInfo, SeamtallyError, type Result } from '../web/core/errors.ts';
+import { crsDefinition } from '../web/core/crs.ts';
+import { validateSidecar, checkModelIO, type ModelSidecar } from '../web/core/model-contract.ts';
+import { createTileScratch, runTile, type TileScratch } from '../web/core/pipeline.ts';
+import { createOrtModel, type OrtModel } from './ort-session.ts';
+import { openInput, SceneCache } from './scene-cache.ts';
+import { renderPreview } from './preview.ts';
+import { tableBuffers } from './transfer.ts';
+import type { DetectorApi } from './contract.ts';
+
+const scenes = new SceneCache();
+const cancelledRuns = new Set<string>();
+let model: { ort: OrtModel; sidecar: ModelSidecar; id: number } | null = null;
+let modelSeq = 0;
+let scratch: TileScratch | null = null;
+
+async function guard<T>(fn: () => Promise<T>, transfers: (v: T) => Transferable[] = () => []): Promise<Result<T>> {
+  try {
+    const value = await fn();
+    return transfer({ ok: true as const, value }, transfers(value));
+  } catch (err) {
+    return { ok: false as const, error: toErrorInfo(err) };
+  }
+}
+
+function needModel(): NonNullable<typeof model> {
+  if (!model) throw new SeamtallyError('model-invalid', 'No detector is loaded in this worker: load a model first.');
+  return model;
+}
+
+const api = {
+  describeScene: (input) => guard(async () => {
+    const src = await openInput(input, 8 * 1024 * 1024);
+    try { return { info: src.info, proj4Def: crsDefinition(src.info.georef.epsg) }; } finally { await src.close(); }
+  }),
+  previewScene: (input, opts) => guard(async () => {
+    const src = await openInput(input, 8 * 1024 * 1024);
+    try { return await renderPreview(src, opts.maxLongSidePx); } finally { await src.close(); }
+  }, (v) => [v.rgba.buffer as ArrayBuffer, v.validMask.buffer as ArrayBuffer]),
+  loadModel: (bytes, sidecarValue, opts) => guard(async () => {
+    const sidecar = validateSidecar(sidecarValue);
+    let ort: OrtModel;
+    try { ort = await createOrtModel(bytes, opts); } catch (err) {
+      throw new SeamtallyError('model-invalid', `The .onnx file could not be loaded (${err instanceof Error ? err.message : String(err)}). Check that it is an ONNX model and not corrupt.`);
+    }
+    checkModelIO(sidecar, ort.io);
+    await model?.ort.release();
+    model = { ort, sidecar, id: ++modelSeq };
+    scratch = null;
+    return { inputNames: [...ort.io.inputNames], outputNames: [...ort.io.outputNames], numThreads: ort.numThreads };
+  }),
+  planScene: (key, input, opts) => guard(async () => {
+    const m = needModel();
+    const p = await scenes.pipeline(key, input, m.sidecar, m.id, opts);
+    return { plan: p.plan, bands: p.bands, stretch: p.stretch };
+  }),
+  detectTile: (task) => guard(async () => {
+    if (cancelledRuns.has(task.runId)) throw new SeamtallyError('cancelled', 'The run was cancelled.');
+    const m = needModel();
+    const p = await scenes.pipeline(task.sceneKey, task.input, m.sidecar, m.id, task.prepare);
+    const tile = p.plan.tiles[task.tileIndex];
+    if (!tile) throw new Error(`tile ${task.tileIndex} does not exist (plan has ${p.plan.tiles.length})`);
+    if (!scratch || scratch.tilePx !== p.plan.tilePx) scratch = createTileScratch(p.plan.tilePx);
+    const inputName = m.sidecar.input.name;
+    const r = await runTile(p, tile, scratch, (data, dims) => m.ort.run(inputName, data, dims));
+    const t = r.timings;
+    return { sceneKey: task.sceneKey, tileIndex: task.tileIndex, skipped: r.skipped, table: r.table,
+      timingsMs: { readMs: t.readMs, resampleMs: t.resampleMs, inferMs: t.inferMs, decodeMs: t.decodeMs } };
+  }, (v) => tableBuffers(v.table)),
+  cancel(runId) { cancelledRuns.add(runId); },
+  forgetScene: (key) => scenes.forget(key),
+} satisfies DetectorApi;
+
+if (!self.name.startsWith('em-pthread')) expose(api);
