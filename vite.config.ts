@@ -64,12 +64,13 @@ function staticRanges(dirAbs: string, listSidecars = false): Connect.NextHandleF
   };
 }
 
-/** Mount `/demo/` and `/models/` (and generated test fixtures) on the dev and preview servers. */
+/** Mount `/demo/`, `/models/`, the fixture model and the scenes browser tests generate on the dev and preview servers. */
 function dataRoutes(): Plugin {
   const routes: Array<[string, string]> = [
     ['/demo', resolve(repoDir, process.env.SEAMTALLY_DEMO_DIR ?? '.cache/demo')],
     ['/models', resolve(repoDir, 'models')],
     ['/fixtures', resolve(repoDir, 'test/fixtures')],
+    ['/testdata', resolve(repoDir, '.cache/test-browser')],
   ];
   const mount = (use: (path: string, h: Connect.NextHandleFunction) => void) => {
     for (const [prefix, dir] of routes) use(prefix, staticRanges(dir, prefix === '/models'));

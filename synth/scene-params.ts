@@ -59,7 +59,7 @@ export function sunForDate(date: string, latDeg: number): { azimuthDeg: number; 
   const sinEl = Math.sin(latRad) * Math.sin(declRad) + Math.cos(latRad) * Math.cos(declRad) * Math.cos(hourRad);
   const el = Math.asin(sinEl);
   const cosAz = (Math.sin(declRad) - Math.sin(el) * Math.sin(latRad)) / (Math.cos(el) * Math.cos(latRad));
-  const az = 360 - (Math.acos(Math.max(-1, Math.min(1, cosAz))) * 180) / Math.PI; // morning: east of south
+  const az = (Math.acos(Math.max(-1, Math.min(1, cosAz))) * 180) / Math.PI; // morning: azimuth below 180° (east of south)
   return { azimuthDeg: az, elevationDeg: (el * 180) / Math.PI };
 }
 

@@ -5,7 +5,7 @@ import type { Rng } from './rng.ts';
 /** Reflectance 0–1 at blue, green, red, near-infrared. Values are plausible, from memory, not measured spectra. */
 export type Refl = readonly [number, number, number, number];
 
-export const MATERIALS = {
+const RAW_MATERIALS = {
   asphalt: [0.07, 0.075, 0.08, 0.11],
   asphaltOld: [0.11, 0.115, 0.12, 0.15],
   concrete: [0.27, 0.28, 0.29, 0.31],
@@ -32,6 +32,7 @@ export const MATERIALS = {
   glass: [0.04, 0.045, 0.05, 0.05],
   tyreDark: [0.04, 0.04, 0.04, 0.05],
 } as const satisfies Record<string, Refl>;
+export const MATERIALS: Record<keyof typeof RAW_MATERIALS, Refl> = RAW_MATERIALS;
 
 /** Car paint colours: white, black, grey and silver dominate (common practice, no source). */
 export const CAR_COLOURS: readonly (readonly [Refl, number])[] = [

@@ -89,7 +89,7 @@ export class World {
     if (hit) { this.cache.delete(key); this.cache.set(key, hit); return hit; }
     const content = this.generate(bx, by);
     this.cache.set(key, content);
-    if (this.cache.size > 400) this.cache.delete(this.cache.keys().next().value as string);
+    if (this.cache.size > 256) this.cache.delete(this.cache.keys().next().value as string);
     return content;
   }
 

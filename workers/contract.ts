@@ -5,6 +5,7 @@ import type { DetectionTable } from '../web/core/types.ts';
 import type { SceneInfo } from '../web/core/scene-source.ts';
 import type { TilePlan } from '../web/core/tiling.ts';
 import type { BandSelection, Stretch } from '../web/core/radiometry.ts';
+import type { ValidMask } from '../web/core/valid-mask.ts';
 
 /** A scene's bytes as the workers read them: a File from the picker / drop, or an http(s) URL read by ranges. */
 export type SceneInput = { kind: 'file'; file: File } | { kind: 'url'; url: string };
@@ -14,15 +15,15 @@ export interface SceneDescription {
   info: SceneInfo;
   /** proj4 definition of the scene CRS (for the map). */
   proj4Def: string;
+  /** Valid-pixel mask for coverage (core valid-mask.ts, the CLI's rule). */
+  mask: ValidMask;
 }
 
-/** An RGBA picture of the scene from one of its overviews (display stretch), and its valid-pixel mask. */
+/** An RGBA picture of the scene from one of its overviews (display stretch); nodata is transparent. */
 export interface ScenePreview {
   widthPx: number;
   heightPx: number;
   rgba: Uint8ClampedArray;
-  /** 1 = valid pixel, 0 = nodata; same grid as `rgba` (used for coverage). */
-  validMask: Uint8Array;
   /** The overview level read (0 = full resolution). */
   level: number;
 }

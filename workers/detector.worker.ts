@@ -2,6 +2,7 @@
 import { expose, transfer } from 'comlink';
 import { toErrorInfo, SeamtallyError, type Result } from '../web/core/errors.ts';
 import { crsDefinition } from '../web/core/crs.ts';
+import { readValidMask } from '../web/core/valid-mask.ts';
 import { validateSidecar, checkModelIO, type ModelSidecar } from '../web/core/model-contract.ts';
 import { createTileScratch, runTile, type TileScratch } from '../web/core/pipeline.ts';
 import { createOrtModel, type OrtModel } from './ort-session.ts';
@@ -33,12 +34,12 @@ function needModel(): NonNullable<typeof model> {
 const api = {
   describeScene: (input) => guard(async () => {
     const src = await openInput(input, 8 * 1024 * 1024);
-    try { return { info: src.info, proj4Def: crsDefinition(src.info.georef.epsg) }; } finally { await src.close(); }
-  }),
+    try { return { info: src.info, proj4Def: crsDefinition(src.info.georef.epsg), mask: await readValidMask(src) }; } finally { await src.close(); }
+  }, (v) => [v.mask.validMask.buffer as ArrayBuffer]),
   previewScene: (input, opts) => guard(async () => {
     const src = await openInput(input, 8 * 1024 * 1024);
     try { return await renderPreview(src, opts.maxLongSidePx); } finally { await src.close(); }
-  }, (v) => [v.rgba.buffer as ArrayBuffer, v.validMask.buffer as ArrayBuffer]),
+  }, (v) => [v.rgba.buffer as ArrayBuffer]),
   loadModel: (bytes, sidecarValue, opts) => guard(async () => {
     const sidecar = validateSidecar(sidecarValue);
     let ort: OrtModel;

@@ -11,7 +11,7 @@ export function previewLevel(source: SceneSource, maxLongSidePx: number): number
   return sizes.length - 1;
 }
 
-/** RGBA + valid mask of the scene at `previewLevel`. Refuses to read more than 64 MPx for a preview. */
+/** RGBA of the scene at `previewLevel`. Refuses to read more than 64 MPx for a preview. */
 export async function renderPreview(source: SceneSource, maxLongSidePx: number): Promise<ScenePreview> {
   const level = previewLevel(source, maxLongSidePx);
   const size = level === 0 ? source.info : source.info.overviews[level - 1];
@@ -22,16 +22,16 @@ export async function renderPreview(source: SceneSource, maxLongSidePx: number):
   const bands = selectBands(source.info);
   const n = win.widthPx * win.heightPx;
   const rgba = new Uint8ClampedArray(n * 4);
-  const validMask = new Uint8Array(n);
+  const valid = new Uint8Array(n);
   const first = win.bands[bands.indices[0]];
   const nd = win.nodata;
   for (let i = 0; i < n; i++) {
     const v = first[i];
-    validMask[i] = Number.isNaN(v) || (nd !== null && v === nd) ? 0 : 1;
+    valid[i] = Number.isNaN(v) || (nd !== null && v === nd) ? 0 : 1;
   }
   let stretch;
   try { stretch = computeStretch(win, bands, { significantBits: source.info.significantBits }); } catch {
-    return { widthPx: win.widthPx, heightPx: win.heightPx, rgba, validMask, level }; // all nodata: transparent
+    return { widthPx: win.widthPx, heightPx: win.heightPx, rgba, level }; // all nodata: transparent
   }
   for (let c = 0; c < 3; c++) {
     const src = win.bands[bands.indices[c]];
@@ -39,6 +39,6 @@ export async function renderPreview(source: SceneSource, maxLongSidePx: number):
     const k = 255 / (stretch.high[c] - lo);
     for (let i = 0; i < n; i++) rgba[i * 4 + c] = (src[i] - lo) * k;
   }
-  for (let i = 0; i < n; i++) rgba[i * 4 + 3] = validMask[i] ? 255 : 0;
-  return { widthPx: win.widthPx, heightPx: win.heightPx, rgba, validMask, level };
+  for (let i = 0; i < n; i++) rgba[i * 4 + 3] = valid[i] ? 255 : 0;
+  return { widthPx: win.widthPx, heightPx: win.heightPx, rgba, level };
 }

@@ -7,12 +7,19 @@
 import { readFileSync, readdirSync, statSync, writeFileSync, mkdirSync, renameSync } from 'node:fs';
 import { join } from 'node:path';
 import { openGeoTiffPath } from '../../web/io/geotiff-source.ts';
-import { selectBands, computeStretch, normaliseInPlace } from '../../web/core/radiometry.ts';
+import { normaliseInPlace } from '../../web/core/radiometry.ts';
 import { sourceWindowFor, planResample, resampleBand, modelGridSize } from '../../web/core/resample.ts';
-import { pickOverviewLevel, levelSize } from '../../web/core/scene-source.ts';
 import { invertGeoTransform, mapToPixel } from '../../web/core/geotransform.ts';
+import { prepareScene } from '../../web/core/pipeline.ts';
+import { validateSidecar } from '../../web/core/model-contract.ts';
 
 const CLASSES = ['vehicle', 'solar_panel'];
+/** Enough of a sidecar for prepareScene (the band/stretch part does not depend on the model). */
+const SIDECAR = validateSidecar({
+  format: 'seamtally-model/1', classes: CLASSES, inputGsdM: 0.3, tilePx: 512,
+  input: { name: 'image', bands: 'rgb', scale: 1 / 255, mean: [0, 0, 0], std: [1, 1, 1] },
+  output: { layout: 'center-heatmap', stride: 4, heatmap: 'heatmap', size: 'size', offset: 'offset', angle: 'angle' },
+});
 
 function arg(name: string, dflt?: string): string {
   const i = process.argv.indexOf(`--${name}`);
@@ -48,11 +55,8 @@ function readTruth(path: string, gt: readonly number[], f: number, modelGsdM: nu
 async function chipsOfScene(tif: string, truthPath: string, px: number, step: number, modelGsdM: number) {
   const src = await openGeoTiffPath(tif, { byteLength: statSync(tif).size });
   const info = src.info;
-  const bands = selectBands(info);
-  const lvl = pickOverviewLevel(info, 1024);
-  const ls = levelSize(info, lvl);
-  const ov = await src.readWindow({ minXPx: 0, minYPx: 0, maxXPx: ls.widthPx, maxYPx: ls.heightPx }, { overviewLevel: lvl });
-  const stretch = computeStretch(ov, bands, { significantBits: info.significantBits });
+  // the pipeline's own scene preparation: band roles and the per-scene stretch from an overview
+  const { bands, stretch } = await prepareScene(src, 0, SIDECAR);
   const f = modelGsdM / info.georef.gsdM;
   const scale = { scenePxPerModelPxX: f, scenePxPerModelPxY: f };
   const grid = modelGridSize(info.widthPx, info.heightPx, scale);
@@ -84,6 +88,8 @@ async function chipsOfScene(tif: string, truthPath: string, px: number, step: nu
       for (const o of truth) {
         const cx = o.xPx - x0, cy = o.yPx - y0;
         if (cx < -px * 0.2 || cy < -px * 0.2 || cx > px * 1.2 || cy > px * 1.2) continue;
+        // objects whose centre is not imaged (nodata collar) are not in the picture: drop them
+        if (cx >= 0 && cy >= 0 && cx < px && cy < px && !allValid[Math.floor(cy) * px + Math.floor(cx)]) continue;
         objects.push([idx, o.cls, cx, cy, o.lengthPx, o.widthPx, o.anglePx, o.visible]);
       }
     }

@@ -9,6 +9,7 @@ export interface AppEvents {
   'threshold-changed': void;
   'review-changed': void;
   'selection-changed': void;
+  'shown-date-changed': void;
   'notice': { level: 'error' | 'info'; text: string };
 }
 

@@ -1,4 +1,4 @@
-// The page skeleton: top bar, left column (imagery, areas, detector, run), map, right tabs, caution strip.
+// The page skeleton: top bar (with the run controls), left column (imagery, areas, detector), map, right tabs, caution strip.
 import { h } from './dom.ts';
 
 export type TabName = 'tally' | 'compare' | 'check' | 'takeaway';
@@ -29,7 +29,7 @@ export function buildLayout(root: HTMLElement): Layout {
   const imagery = block('Imagery', 'imagery');
   const areas = block('Areas', 'areas');
   const detector = block('Detector', 'detector');
-  const run = block('Run', 'run');
+  const run = { body: h('div.runbar', { id: 'run' }) };
   const topChips = h('div.row');
   const map = h('div#map', { tabIndex: 0 });
   const mapOverlay = h('div.mapoverlay');
@@ -51,8 +51,8 @@ export function buildLayout(root: HTMLElement): Layout {
     h('header.topbar', {},
       h('div.brand', {}, 'seam', h('span', {}, 'tally')),
       h('div.tagline', {}, 'count compact objects inside your areas, on your own machine'),
-      h('div.spacer'), topChips),
-    h('aside.left', {}, imagery.el, areas.el, detector.el, run.el),
+      h('div.spacer'), run.body, topChips),
+    h('aside.left', {}, imagery.el, areas.el, detector.el),
     h('main.mapwrap', {}, map, notices, mapOverlay),
     right,
     foot,

@@ -1,2 +1,88 @@
-// Page entry: creates the app state and mounts the UI (placeholder until the app lands).
-document.getElementById('app')!.textContent = 'seamtally — loading';
+// Page entry: creates the one app state and the services (map, worker pool, tally worker), mounts every panel,
+// restores kept work, loads the shipped detector and the demo, and resumes an interrupted run.
+import 'ol/ol.css';
+import { createAppState, type AppState, type ModelEntry } from './state.ts';
+import { WorkStore } from './store.ts';
+import { buildLayout } from './layout.ts';
+import { createMapView } from './map-view.ts';
+import { SceneLayers } from './scene-layers.ts';
+import { AoiLayer } from './aoi-layer.ts';
+import { DetectionsLayer } from './detections-layer.ts';
+import { DetectorPool } from './worker-pool.ts';
+import { RunController } from './run-controller.ts';
+import { spawnTally } from '../../workers/spawn.ts';
+import { mountNotices } from './notices.ts';
+import { cautionStrip } from './cautions.ts';
+import { mountImageryPanel } from './imagery-panel.ts';
+import { mountAoiPanel } from './aoi-panel.ts';
+import { mountDetectorPanel } from './detector-panel.ts';
+import { mountRunPanel } from './run-panel.ts';
+import { mountTallyPanel } from './tally-panel.ts';
+import { mountComparePanel } from './compare-panel.ts';
+import { mountReviewPanel } from './review-panel.ts';
+import { mountTakeawayPanel } from './takeaway-panel.ts';
+import { addArea, addHole, editArea } from './aoi-actions.ts';
+import { fetchDefaultModel } from './model-load.ts';
+import { fetchManifest, openDemo } from './demo.ts';
+import { readPageConfig } from './config.ts';
+import { restoreKeptWork, restoreKeptScenes } from './restore.ts';
+import { toErrorInfo } from '../core/errors.ts';
+import type { DateTally } from './tally.ts';
+
+async function main(): Promise<void> {
+  const store = await WorkStore.open().catch(() => null);
+  const state: AppState = createAppState(store);
+  const layout = buildLayout(document.getElementById('app')!);
+  mountNotices(state, layout.notices);
+  cautionStrip(layout.foot);
+  if (!store) state.events.emit('notice', { level: 'error', text: 'This browser does not let seamtally keep your work (IndexedDB is unavailable, e.g. in a private window): results are lost on reload.' });
+
+  const view = createMapView(layout.map);
+  const layers = new SceneLayers(view);
+  const pool = new DetectorPool(state.poolSize);
+  const tally = spawnTally();
+  const svc = { pool, layers };
+  const aoiLayer = new AoiLayer(view, {
+    drawn: (ring) => { void addArea(state, ring); },
+    holeDrawn: (ring) => { void addHole(state, ring); },
+    edited: (id, polys) => { void editArea(state, id, polys); },
+  });
+  const detections = new DetectionsLayer(view, state);
+  const runs = new RunController(state, { pool, tally: tally.api });
+  let lastTally: DateTally[] = [];
+
+  const useModel = async (m: ModelEntry) => {
+    await pool.setModel(m);
+    state.model = m;
+    state.minScore = m.sidecar.minScore ?? 0.5;
+    state.events.emit('model-changed');
+    state.events.emit('threshold-changed');
+  };
+
+  mountImageryPanel(state, layout.imagery, layout.map, svc);
+  mountAoiPanel(state, layout.areas, aoiLayer);
+  mountDetectorPanel(state, layout.detector, useModel);
+  mountRunPanel(state, layout.run, runs, pool);
+  mountTallyPanel(state, layout.tabs.tally, (t) => { lastTally = t; });
+  mountComparePanel(state, layout.tabs.compare, () => lastTally);
+  mountReviewPanel(state, layout.tabs.check, { view, detections, layout });
+  mountTakeawayPanel(state, layout.tabs.takeaway, { view, getTally: () => lastTally });
+  state.events.on('shown-date-changed', () => layers.showDate(state.shownDate));
+  // The first scene switches the map into its CRS: redraw areas and detections in the new projection.
+  view.map.on('change:view', () => { aoiLayer.render(state.aois); detections.rebuild(); });
+
+  await restoreKeptWork(state);
+  const config = readPageConfig(location);
+  const demo = await fetchManifest(config.manifestUrl);
+  try {
+    await useModel(await fetchDefaultModel(config.modelUrl ?? demo?.modelUrl ?? undefined));
+  } catch (err) {
+    state.events.emit('notice', { level: 'error', text: toErrorInfo(err).message });
+  }
+  if (demo) await openDemo(state, svc, demo);
+  await restoreKeptScenes(state, svc);
+  await runs.restore();
+  document.body.dataset.ready = 'true';
+}
+
+void main();

@@ -33,7 +33,7 @@ export async function fetchModel(sidecarUrl: string, origin: ModelEntry['origin'
 /** The shipped detector: the first sidecar listed at /models/index.json, else the test fixture model. */
 export async function fetchDefaultModel(preferred?: string): Promise<ModelEntry> {
   const candidates: Array<[string, ModelEntry['origin']]> = [];
-  if (preferred) candidates.push([preferred, 'shipped']);
+  if (preferred) candidates.push([preferred, preferred.startsWith('/models/') ? 'shipped' : 'fixture']);
   const listRes = await fetchOk('/models/index.json');
   if (listRes) {
     const list = (await listRes.json()) as unknown;

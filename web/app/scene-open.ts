@@ -30,24 +30,26 @@ export async function openScene(state: AppState, svc: SceneServices, input: Scen
     const fingerprint = await fingerprintScene(input);
     const known = state.scenes.find((s) => s.fingerprint === fingerprint);
     if (known) {
+      const wasClosed = known.input === null;
       known.input = input;
       state.events.emit('scenes-changed');
+      if (wasClosed) void drawScene(state, svc, known);
       return known;
     }
     const r = await svc.pool.any().describeScene(input);
     if (!r.ok) throw fromErrorInfo(r.error);
     const info = { ...r.value.info, name };
     const kept = (await state.store?.allScenes())?.find((s) => s.fingerprint === fingerprint);
-    let dateIso = opts.dateIso ?? kept?.dateIso ?? info.acquisitionDate ?? null;
+    let dateIso = kept?.dateIso ?? opts.dateIso ?? info.acquisitionDate ?? null;
     if (!dateIso) {
       dateIso = new Date(input.kind === 'file' ? input.file.lastModified : Date.now()).toISOString().slice(0, 10);
       state.events.emit('notice', { level: 'info', text: `${name} carries no acquisition date; it was set to ${dateIso}. Correct it in the Imagery list.` });
     }
     const entry: SceneEntry = {
-      fingerprint, name, dateIso, origin: originOf(input), info, description: { ...r.value, info }, addedMs: Date.now(), input, mask: null,
+      fingerprint, name, dateIso, origin: originOf(input), info, description: { ...r.value, info }, addedMs: Date.now(), input,
     };
     state.scenes = [...state.scenes, entry];
-    const { input: _live, mask: _mask, ...record } = entry;
+    const { input: _live, ...record } = entry;
     await state.store?.putScene(record);
     state.events.emit('scenes-changed');
     void drawScene(state, svc, entry);
@@ -63,7 +65,6 @@ export async function drawScene(state: AppState, svc: SceneServices, entry: Scen
   if (!entry.input) return;
   const r = await svc.pool.any().previewScene(entry.input, { maxLongSidePx: PREVIEW_LONG_SIDE_PX });
   if (!r.ok) { state.events.emit('notice', { level: 'error', text: `${entry.name}: ${r.error.message}` }); return; }
-  entry.mask = { validMask: r.value.validMask, widthPx: r.value.widthPx, heightPx: r.value.heightPx };
   await svc.layers.show(entry, r.value, entry.description.proj4Def);
 }
 
@@ -72,7 +73,7 @@ export async function setSceneDate(state: AppState, fingerprint: string, dateIso
   const s = state.scenes.find((x) => x.fingerprint === fingerprint);
   if (!s || !/^\d{4}-\d{2}-\d{2}$/.test(dateIso)) return;
   s.dateIso = dateIso;
-  const { input: _live, mask: _mask, ...record } = s;
+  const { input: _live, ...record } = s;
   await state.store?.putScene(record);
   state.events.emit('scenes-changed');
 }

@@ -26,8 +26,6 @@ export interface SceneRecord {
 /** A scene in this session: the kept record plus, when available, the live File/URL the workers read. */
 export interface SceneEntry extends SceneRecord {
   input: SceneInput | null;
-  /** Valid-pixel mask from the overview drawn on the map (for coverage), once drawn. */
-  mask: { validMask: Uint8Array; widthPx: number; heightPx: number } | null;
 }
 
 /** An area of interest in WGS 84 lon/lat (the core's AOI: polygons → rings, exterior first, then holes). */
@@ -86,8 +84,10 @@ export interface AppState {
   results: DateDetections[];
   review: Map<string, ReviewState>;
   added: AddedBox[];
-  /** Currently selected detection (date + row) for review. */
+  /** Currently selected detection (date + row of its reviewed table) for review. */
   selection: { dateIso: string; row: number } | null;
+  /** Date whose scenes and detections the map shows (null = all). */
+  shownDate: string | null;
 }
 
 /** The state at page start (nothing loaded yet). */
@@ -106,6 +106,7 @@ export function createAppState(store: WorkStore | null): AppState {
     review: new Map(),
     added: [],
     selection: null,
+    shownDate: null,
   };
 }
 

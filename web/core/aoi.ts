@@ -129,10 +129,12 @@ export function validateAoi(aoi: Aoi): void {
           throw invalid(`${what} crosses the antimeridian (180° longitude): split it there into two polygons of a MultiPolygon (RFC 7946 §3.1.9).`, { id: aoi.id });
         }
       }
-      if (planarArea(ring) === 0) throw invalid(`${what} encloses no area: redraw it.`, { id: aoi.id });
     });
     const crossing = findSelfIntersection(poly);
     if (crossing) throw invalid(`Polygon ${k + 1} of AOI "${name}" intersects itself near ${crossing[0].toFixed(6)}, ${crossing[1].toFixed(6)}: redraw it so that its edges do not cross.`, { id: aoi.id, at: crossing });
+    poly.forEach((ring, r) => {
+      if (planarArea(ring) === 0) throw invalid(`${r === 0 ? 'The outer ring' : `Hole ${r}`} of polygon ${k + 1} of AOI "${name}" encloses no area: redraw it.`, { id: aoi.id });
+    });
     for (let h = 1; h < poly.length; h++) {
       const probe = poly[h].find((p) => pointInRing(p[0], p[1], poly[0]) !== BOUNDARY);
       if (probe && pointInRing(probe[0], probe[1], poly[0]) === OUTSIDE) {

@@ -85,7 +85,7 @@ export function detectionsToGeoJson(input: DetectionsExportInput, options: Detec
         lengthM: round(t.lengthM[i], 3),
         widthM: round(t.widthM[i], 3),
         // compass heading of the length axis in the frame (0 = grid north, clockwise), modulo 180
-        headingDeg: round(((((90 - (t.angleRad[i] * 180) / Math.PI) % 180) + 180) % 180), 2),
+        headingDeg: (((round(90 - (t.angleRad[i] * 180) / Math.PI, 2) % 180) + 180) % 180) + 0,
       },
     });
   }

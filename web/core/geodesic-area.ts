@@ -1,5 +1,5 @@
 // Area of lon/lat polygons (with holes) and multipolygons on the WGS 84 ellipsoid, via GeographicLib.
-import { Geodesic } from 'geographiclib-geodesic';
+import { WGS84_GEODESIC } from './wgs84-geodesic.ts';
 import type { LonLatDeg } from './types.ts';
 
 export const M2_PER_HA = 10_000;
@@ -11,7 +11,7 @@ export const M2_PER_HA = 10_000;
 export function ringAreaM2(ringLonLat: readonly LonLatDeg[]): number {
   const n = closedLength(ringLonLat);
   if (n < 3) return 0;
-  const poly = Geodesic.WGS84.Polygon(false);
+  const poly = WGS84_GEODESIC.Polygon(false);
   for (let i = 0; i < n; i++) poly.AddPoint(ringLonLat[i][1], ringLonLat[i][0]);
   return Math.abs(poly.Compute(false, true).area ?? 0);
 }
@@ -20,7 +20,7 @@ export function ringAreaM2(ringLonLat: readonly LonLatDeg[]): number {
 export function signedRingAreaM2(ringLonLat: readonly LonLatDeg[]): number {
   const n = closedLength(ringLonLat);
   if (n < 3) return 0;
-  const poly = Geodesic.WGS84.Polygon(false);
+  const poly = WGS84_GEODESIC.Polygon(false);
   for (let i = 0; i < n; i++) poly.AddPoint(ringLonLat[i][1], ringLonLat[i][0]);
   return poly.Compute(false, true).area ?? 0;
 }

@@ -1,5 +1,5 @@
 // SceneGeoref: size, CRS, GeoTransform, GSD and lon/lat footprint of one scene, from tag values alone.
-import { crsToLonLat, isCrsKnown, type UserCrsDefs } from './crs.ts';
+import { crsDefinition, crsToLonLat, type UserCrsDefs } from './crs.ts';
 import { SeamtallyError } from './errors.ts';
 import { readGeoKeys, type GeoKeyValues, type RasterType } from './geokeys.ts';
 import { geoTransformFromTags, pixelToMap, type GeoTiffTags, type GeoTransformOptions } from './geotransform.ts';
@@ -46,10 +46,7 @@ export function sceneGeoref(input: GeorefInput, options: GeorefOptions = {}): Sc
     );
   }
   const keys = readGeoKeys(input.geoKeys);
-  if (!isCrsKnown(keys.epsg, options.userDefs)) {
-    // crsDefinition's error names what to do
-    crsToLonLat(keys.epsg, [0, 0], options.userDefs);
-  }
+  crsDefinition(keys.epsg, options.userDefs); // unknown code → 'unknown-crs' saying how to supply a definition
   const gt = geoTransformFromTags(input.tags, keys.rasterType, options);
   const toLonLat = (xPx: number, yPx: number): LonLatDeg => crsToLonLat(keys.epsg, pixelToMap(gt, xPx, yPx), options.userDefs);
   const centreLonLat = toLonLat(widthPx / 2, heightPx / 2);

@@ -1,5 +1,5 @@
 // Ground sampling distance in metres for any supported CRS (geodesic at the scene centre when not metric).
-import { Geodesic } from 'geographiclib-geodesic';
+import { WGS84_GEODESIC } from './wgs84-geodesic.ts';
 import { crsToLonLat, isMetricProjected, type UserCrsDefs } from './crs.ts';
 import { pixelToMap } from './geotransform.ts';
 import type { GeoTransform } from './types.ts';
@@ -26,7 +26,7 @@ export function groundSampleDistance(gt: GeoTransform, epsg: number, atXPx: numb
     gsdXM = Math.hypot(gt[1], gt[4]);
     gsdYM = Math.hypot(gt[2], gt[5]);
   } else {
-    const geod = Geodesic.WGS84;
+    const geod = WGS84_GEODESIC;
     const toLonLat = (xPx: number, yPx: number) => crsToLonLat(epsg, pixelToMap(gt, xPx, yPx), userDefs);
     const stepM = (a: readonly [number, number], b: readonly [number, number]) => {
       const pa = toLonLat(a[0], a[1]);

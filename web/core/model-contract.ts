@@ -230,12 +230,19 @@ function mismatch(field: string, what: string): never {
 
 /** Compare dims with expectations; `null` in `want` means any value; dynamic dims in `got` are accepted. */
 function checkDims(field: string, got: readonly ModelDim[] | undefined, want: ReadonlyArray<number | null>): void {
-  if (!got) return;
+  if (!got || got.length === 0) return; // unknown shape (onnxruntime reports [] when the model declares none)
   if (got.length !== want.length) mismatch(field, `the tensor has ${got.length} dimensions, expected ${want.length} [${want.map((w) => w ?? '?').join(', ')}]`);
   want.forEach((w, i) => {
     const g = got[i];
     if (w !== null && typeof g === 'number' && g >= 0 && g !== w) mismatch(field, `dimension ${i} is ${g}, expected ${w}`);
   });
+}
+
+/** Dims by name from onnxruntime's `session.inputMetadata` / `outputMetadata` (non-tensor values are skipped). */
+export function dimsFromMetadata(meta: ReadonlyArray<{ name: string; isTensor: boolean; shape?: readonly ModelDim[] }>): Record<string, readonly ModelDim[]> {
+  const out: Record<string, readonly ModelDim[]> = {};
+  for (const m of meta) if (m.isTensor && m.shape) out[m.name] = m.shape;
+  return out;
 }
 
 /** Check the ONNX session's names and (where known) shapes against the sidecar. Throws 'model-mismatch'. */

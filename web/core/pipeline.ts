@@ -5,9 +5,9 @@ import { decodeOutputs, normaliseAxisAngle, type PixelDetections, type TensorLik
 import { SeamtallyError } from './errors.ts';
 import { pixelToMap } from './geotransform.ts';
 import type { ModelSidecar } from './model-contract.ts';
-import { computeStretch, normaliseInPlace, selectBands, type BandSelection, type Stretch, type StretchOptions } from './radiometry.ts';
+import { computeStretch, joinSamples, normaliseInPlace, readStretchSample, selectBands, type BandSelection, type Stretch, type StretchOptions } from './radiometry.ts';
 import { planResample, resampleBand } from './resample.ts';
-import { pickOverviewLevel, type RasterWindow, type SceneSource } from './scene-source.ts';
+import type { RasterWindow, SceneSource } from './scene-source.ts';
 import { keepCoreCentres } from './seam-merge.ts';
 import { planTiles, type PlannedTile, type TilePlan } from './tiling.ts';
 import { createDetectionTable, type DetectionTable } from './types.ts';
@@ -47,9 +47,6 @@ export interface PrepareOptions {
   signal?: AbortSignal;
 }
 
-/** Largest overview side used for the stretch: the coarsest level with at least this many pixels on its long side. */
-const STRETCH_OVERVIEW_MIN_PX = 512;
-
 /** The metric frame for a set of scenes (one date mosaic): the first scene's metric frame (crs.ts metricFrameEpsg). */
 export function runFrameEpsg(scenes: readonly SceneSource[], userDefs?: UserCrsDefs): number {
   if (scenes.length === 0) throw new Error('runFrameEpsg needs at least one scene');
@@ -57,49 +54,19 @@ export function runFrameEpsg(scenes: readonly SceneSource[], userDefs?: UserCrsD
   return metricFrameEpsg(g.epsg, g.centreLonLat, userDefs);
 }
 
+/**
+ * The scene GSD used for tiling: snapped to the model GSD when they agree to 1 part in 10⁶, so that a scene written
+ * at the model GSD (whose transform holds e.g. 0.29999999999 from corner arithmetic) is copied pixel for pixel
+ * instead of being resampled by a factor of 1.00000000003.
+ */
+export function snapGsdM(sceneGsdM: number, modelGsdM: number): number {
+  return Math.abs(sceneGsdM / modelGsdM - 1) < 1e-6 ? modelGsdM : sceneGsdM;
+}
+
 /** Largest object extent the sidecar declares (objects.*.maxExtentM), or the fallback. */
 export function maxObjectExtentM(sidecar: ModelSidecar, fallbackM = 10): number {
   const specs = Object.values(sidecar.objects ?? {});
   return specs.length ? Math.max(...specs.map((o) => o.maxExtentM)) : fallbackM;
-}
-
-/**
- * Read the stretch sample: the coarsest overview with ≥ 512 px on its long side, whole; without overviews, a 4 × 4
- * grid of 64 px windows spread over the full-resolution scene (never the whole raster).
- */
-export async function readStretchSample(source: SceneSource, signal?: AbortSignal): Promise<RasterWindow[]> {
-  const info = source.info;
-  const level = pickOverviewLevel(info, STRETCH_OVERVIEW_MIN_PX);
-  const long = Math.max(info.widthPx, info.heightPx);
-  if (level > 0 || long <= 1024) {
-    const sz = level === 0 ? info : info.overviews[level - 1];
-    return [await source.readWindow({ minXPx: 0, minYPx: 0, maxXPx: sz.widthPx, maxYPx: sz.heightPx }, { overviewLevel: level, signal })];
-  }
-  const out: RasterWindow[] = [];
-  const n = 4, s = 64;
-  for (let j = 0; j < n; j++) {
-    for (let i = 0; i < n; i++) {
-      const x = Math.floor(((i + 0.5) * info.widthPx) / n - s / 2);
-      const y = Math.floor(((j + 0.5) * info.heightPx) / n - s / 2);
-      const x0 = Math.max(0, x), y0 = Math.max(0, y);
-      out.push(await source.readWindow({ minXPx: x0, minYPx: y0, maxXPx: Math.min(info.widthPx, x0 + s), maxYPx: Math.min(info.heightPx, y0 + s) }, { signal }));
-    }
-  }
-  return out;
-}
-
-/** Concatenate sample windows band by band into one window (for the percentile computation). */
-function joinSamples(ws: RasterWindow[]): RasterWindow {
-  if (ws.length === 1) return ws[0];
-  const first = ws[0];
-  const total = ws.reduce((a, w) => a + w.widthPx * w.heightPx, 0);
-  const bands = first.bands.map((_, b) => {
-    const out = new Float64Array(total);
-    let o = 0;
-    for (const w of ws) { out.set(w.bands[b] as ArrayLike<number>, o); o += w.widthPx * w.heightPx; }
-    return out;
-  });
-  return { ...first, widthPx: total, heightPx: 1, bands };
 }
 
 /** Prepare one scene: band roles, per-scene stretch (from an overview), tile plan, frame. */
@@ -115,7 +82,7 @@ export async function prepareScene(source: SceneSource, sceneIdx: number, sideca
   const plan = planTiles({
     sceneWidthPx: info.widthPx,
     sceneHeightPx: info.heightPx,
-    sceneGsdM: info.georef.gsdM,
+    sceneGsdM: snapGsdM(info.georef.gsdM, sidecar.inputGsdM),
     modelGsdM: sidecar.inputGsdM,
     tilePx,
     maxObjectExtentM: maxObjectExtentM(sidecar, opts.fallbackMaxExtentM),

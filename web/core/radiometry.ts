@@ -1,7 +1,7 @@
 // Radiometry: band roles (RGB from RGB / RGB+NIR / 8-band / panchromatic), per-scene percentile stretch from an
 // overview (one stretch per scene, never per tile, so all tiles look alike), and mapping into the model's input range.
 import { SeamtallyError } from './errors.ts';
-import type { RasterWindow, SampleArray } from './scene-source.ts';
+import { pickOverviewLevel, type RasterWindow, type SampleArray, type SceneSource } from './scene-source.ts';
 
 /** Which scene bands feed the model's R, G, B channels (0-based). Panchromatic = one band replicated. */
 export interface BandSelection {
@@ -165,4 +165,46 @@ export function normaliseInPlace(tensor: Float32Array, planePx: number, stretch:
       tensor[off + i] = v8 * a + b;
     }
   }
+}
+
+/** Largest overview side used for the stretch: the coarsest level with at least this many pixels on its long side. */
+const STRETCH_OVERVIEW_MIN_PX = 512;
+
+/**
+ * Read the stretch sample: the coarsest overview with ≥ 512 px on its long side, whole; without overviews, a 4 × 4
+ * grid of 64 px windows spread over the full-resolution scene (never the whole raster).
+ */
+export async function readStretchSample(source: SceneSource, signal?: AbortSignal): Promise<RasterWindow[]> {
+  const info = source.info;
+  const level = pickOverviewLevel(info, STRETCH_OVERVIEW_MIN_PX);
+  const long = Math.max(info.widthPx, info.heightPx);
+  if (level > 0 || long <= 1024) {
+    const sz = level === 0 ? info : info.overviews[level - 1];
+    return [await source.readWindow({ minXPx: 0, minYPx: 0, maxXPx: sz.widthPx, maxYPx: sz.heightPx }, { overviewLevel: level, signal })];
+  }
+  const out: RasterWindow[] = [];
+  const n = 4, s = 64;
+  for (let j = 0; j < n; j++) {
+    for (let i = 0; i < n; i++) {
+      const x = Math.floor(((i + 0.5) * info.widthPx) / n - s / 2);
+      const y = Math.floor(((j + 0.5) * info.heightPx) / n - s / 2);
+      const x0 = Math.max(0, x), y0 = Math.max(0, y);
+      out.push(await source.readWindow({ minXPx: x0, minYPx: y0, maxXPx: Math.min(info.widthPx, x0 + s), maxYPx: Math.min(info.heightPx, y0 + s) }, { signal }));
+    }
+  }
+  return out;
+}
+
+/** Concatenate sample windows band by band into one window (for the percentile computation). */
+export function joinSamples(ws: RasterWindow[]): RasterWindow {
+  if (ws.length === 1) return ws[0];
+  const first = ws[0];
+  const total = ws.reduce((a, w) => a + w.widthPx * w.heightPx, 0);
+  const bands = first.bands.map((_, b) => {
+    const out = new Float64Array(total);
+    let o = 0;
+    for (const w of ws) { out.set(w.bands[b] as ArrayLike<number>, o); o += w.widthPx * w.heightPx; }
+    return out;
+  });
+  return { ...first, widthPx: total, heightPx: 1, bands };
 }

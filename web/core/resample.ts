@@ -109,18 +109,26 @@ export interface ResamplePlan {
   srcBox: PixelBox;
   x: AxisWeights;
   y: AxisWeights;
+  /** True when every output pixel copies exactly one source pixel (same GSD): the fast path. */
+  unit: boolean;
 }
 
 /** Build the weights for resampling `srcBox` (scene px, as read) onto `outBox` (model px). */
 export function planResample(outBox: PixelBox, srcBox: PixelBox, scale: GridScale, sceneWidthPx: number, sceneHeightPx: number): ResamplePlan {
   const outW = outBox.maxXPx - outBox.minXPx;
   const outH = outBox.maxYPx - outBox.minYPx;
-  return {
-    outBox,
-    srcBox,
-    x: axisWeights(outBox.minXPx, outW, scale.scenePxPerModelPxX, sceneWidthPx, srcBox.minXPx),
-    y: axisWeights(outBox.minYPx, outH, scale.scenePxPerModelPxY, sceneHeightPx, srcBox.minYPx),
-  };
+  const x = axisWeights(outBox.minXPx, outW, scale.scenePxPerModelPxX, sceneWidthPx, srcBox.minXPx);
+  const y = axisWeights(outBox.minYPx, outH, scale.scenePxPerModelPxY, sceneHeightPx, srcBox.minYPx);
+  const srcW = srcBox.maxXPx - srcBox.minXPx, srcH = srcBox.maxYPx - srcBox.minYPx;
+  for (const [a, len] of [[x, srcW], [y, srcH]] as const) {
+    for (let k = 0; k < a.start.length; k++) {
+      if (a.count[k] > 0 && (a.start[k] < 0 || a.start[k] + a.count[k] > len)) {
+        throw new Error(`planResample: source window ${JSON.stringify(srcBox)} does not hold the pixels output ${JSON.stringify(outBox)} needs`);
+      }
+    }
+  }
+  const unitAxis = (a: AxisWeights) => a.count.every((c) => c === 1) && a.w.every((v, i) => i % a.stride !== 0 || v === 1);
+  return { outBox, srcBox, x, y, unit: unitAxis(x) && unitAxis(y) };
 }
 
 /**
@@ -136,6 +144,20 @@ export function resampleBand(src: SampleArray, plan: ResamplePlan, dst: Float32A
   const { x, y } = plan;
   const outW = x.start.length;
   const outH = y.start.length;
+  if (plan.unit) {
+    for (let oy = 0; oy < outH; oy++) {
+      const row = y.start[oy] * srcW;
+      const yIn = y.inside[oy];
+      for (let ox = 0; ox < outW; ox++) {
+        const o = oy * outW + ox;
+        const v = src[row + x.start[ox]];
+        const ok = yIn && x.inside[ox] && !(nodata !== null && (nanNodata ? Number.isNaN(v) : v === nodata));
+        dst[o] = ok ? v : fill;
+        if (valid) valid[o] = ok ? 1 : 0;
+      }
+    }
+    return;
+  }
   for (let oy = 0; oy < outH; oy++) {
     const ys = y.start[oy];
     const yn = y.count[oy];

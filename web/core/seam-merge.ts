@@ -11,12 +11,17 @@ export const DEFAULT_MERGE_IOU = 0.5;
  * ([min, max) on both axes), so a centre exactly on a seam belongs to exactly one tile (the one to its right/below).
  * `dets` centres must be in the same frame as `corePx` (model pixels of the resampled scene: decode with
  * `tileOriginPx` = the window's top-left).
+ * `marginPx` (default 0) grows the core on every side: a detector whose centre estimate differs by a fraction of a
+ * pixel between two tiles could otherwise drop an object lying on a seam in BOTH tiles; with a margin both keep it
+ * and `mergeDetectionTables` removes the duplicate. Keep the margin well under half the smallest object size.
  */
-export function keepCoreCentres(dets: PixelDetections, corePx: PixelBox): PixelDetections {
+export function keepCoreCentres(dets: PixelDetections, corePx: PixelBox, opts: { marginPx?: number } = {}): PixelDetections {
+  const m = opts.marginPx ?? 0;
+  const x0 = corePx.minXPx - m, x1 = corePx.maxXPx + m, y0 = corePx.minYPx - m, y1 = corePx.maxYPx + m;
   const keep: number[] = [];
   for (let i = 0; i < dets.count; i++) {
     const x = dets.cxPx[i], y = dets.cyPx[i];
-    if (x >= corePx.minXPx && x < corePx.maxXPx && y >= corePx.minYPx && y < corePx.maxYPx) keep.push(i);
+    if (x >= x0 && x < x1 && y >= y0 && y < y1) keep.push(i);
   }
   return selectPixelRows(dets, keep);
 }

@@ -65,16 +65,20 @@ export interface TilePlan {
   overheadRatio: number;
 }
 
-/** Model pixels added to the automatic overlap for the resampling kernel and rounding. */
-export const AUTO_OVERLAP_MARGIN_PX = 2;
+/**
+ * Model pixels added to the automatic overlap: context for the detector's receptive field beyond the object's own
+ * pixels (a CNN's outputs near a zero-padded window edge are weaker), plus the resampling kernel and rounding.
+ */
+export const AUTO_OVERLAP_MARGIN_PX = 8;
 
 /**
- * Automatic overlap in model pixels: ceil(maxObjectExtentM / modelGsdM) + AUTO_OVERLAP_MARGIN_PX.
- * Half the extent would already put every object wholly inside the window of the tile whose core holds its centre;
- * the full extent also gives the detector one more object-size of context around it.
+ * Automatic overlap in model pixels: ceil(maxObjectExtentM / 2 / modelGsdM) + AUTO_OVERLAP_MARGIN_PX.
+ * `maxObjectExtentM` is the largest extent of an object in any direction (its diagonal for a box). An object whose
+ * centre lies in a tile's core reaches at most half that extent beyond the core, so with this overlap it lies wholly
+ * inside that tile's window, with a margin of context around it.
  */
 export function autoOverlapPx(maxObjectExtentM: number, modelGsdM: number): number {
-  return Math.ceil(maxObjectExtentM / modelGsdM - 1e-9) + AUTO_OVERLAP_MARGIN_PX;
+  return Math.ceil(maxObjectExtentM / 2 / modelGsdM - 1e-9) + AUTO_OVERLAP_MARGIN_PX;
 }
 
 function positive(name: string, v: number): void {

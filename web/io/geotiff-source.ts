@@ -6,6 +6,10 @@ import { sceneGeoref, type SceneGeoref } from '../core/georef.ts';
 import type { UserCrsDefs } from '../core/crs.ts';
 import type { PixelBox } from '../core/types.ts';
 import { TileCache } from '../core/tile-cache.ts';
+import { fastBlockReader, type FastBlockReader } from './geotiff-blocks.ts';
+import { checkMagic, classify } from './geotiff-errors.ts';
+
+export { checkMagic };
 import {
   allocSamples, levelSize, type LevelSize, type RasterWindow, type ReadWindowOptions, type SampleArray, type SampleDtype,
   type SceneInfo, type SceneSource,
@@ -76,33 +80,6 @@ export async function openGeoTiffPath(path: string, opts: GeoTiffSourceOptions &
   const name = opts.name ?? (path.split(/[\\/]/).pop() || path);
   if (opts.head) await checkMagic(opts.head, name);
   return openTiff(() => fromFile(path, opts.signal), { ...opts, name });
-}
-
-/** Throw 'not-tiff' unless the bytes start with a TIFF or BigTIFF header (TIFF 6.0 §2; BigTIFF: version 43). */
-export async function checkMagic(head: Uint8Array, name: string): Promise<void> {
-  const le = head[0] === 0x49 && head[1] === 0x49;
-  const be = head[0] === 0x4d && head[1] === 0x4d;
-  const version = le ? head[2] | (head[3] << 8) : be ? (head[2] << 8) | head[3] : -1;
-  if (head.length < 8 || !(version === 42 || version === 43)) {
-    throw new SeamtallyError('not-tiff', `"${name}" is not a TIFF file (it does not start with a TIFF header): choose a GeoTIFF or COG (.tif).`, { name });
-  }
-}
-
-function classify(err: unknown, name: string, stage: 'open' | 'read'): unknown {
-  if (err instanceof SeamtallyError) return err;
-  if (err instanceof Error && err.name === 'AbortError') return err;
-  const msg = err instanceof Error ? err.message : String(err);
-  if (/Invalid byte order|Invalid magic number/i.test(msg)) {
-    return new SeamtallyError('not-tiff', `"${name}" is not a TIFF file: choose a GeoTIFF or COG (.tif).`, { name });
-  }
-  if (/compression|decoder/i.test(msg)) {
-    return new SeamtallyError('unsupported-raster', `"${name}" uses a compression seamtally cannot decode (${msg}): rewrite it with gdal_translate -co COMPRESS=DEFLATE.`, { name });
-  }
-  if (err instanceof RangeError || /out of bounds|offset|ENOENT/i.test(msg)) {
-    if (/ENOENT/.test(msg)) return new SeamtallyError('bad-argument', `"${name}" does not exist: check the path.`, { name });
-    return new SeamtallyError('truncated', `"${name}" is cut short or damaged (${stage === 'open' ? 'its header' : 'its pixel data'} cannot be read): copy or download the file again.`, { name });
-  }
-  return new SeamtallyError('unsupported-raster', `"${name}" could not be read as a GeoTIFF (${msg}): check it with gdalinfo, or rewrite it with gdal_translate.`, { name });
 }
 
 const DTYPES: Record<string, SampleDtype> = {
@@ -220,6 +197,7 @@ class GeoTiffSource implements SceneSource {
   private readonly cache: TileCache<DecodedBlock>;
   private readonly keyPrefix: string;
   private readonly asRgb: boolean;
+  private readonly fast = new Map<number, Promise<FastBlockReader | null>>();
 
   constructor(private readonly tiff: GeoTIFF, private readonly levels: GeoTIFFImage[], info: SceneInfo, opts: GeoTiffSourceOptions) {
     this.info = info;
@@ -246,8 +224,14 @@ class GeoTiffSource implements SceneSource {
     const y1 = Math.min(size.heightPx, y0 + bh);
     let raw: ArrayLike<number>[];
     try {
+      let fast = this.fast.get(level);
+      if (!fast) {
+        fast = this.asRgb ? Promise.resolve(null) : fastBlockReader(img, this.info.dtype, this.info.bandCount).catch(() => null);
+        this.fast.set(level, fast);
+      }
+      const reader = await fast;
       const window = [x0, y0, x1, y1];
-      raw = (this.asRgb
+      raw = reader ? await reader.read(x0, y0, x1, y1, signal) : (this.asRgb
         ? await img.readRGB({ window, interleave: false, signal })
         : await img.readRasters({ window, interleave: false, signal })) as unknown as ArrayLike<number>[];
     } catch (err) {

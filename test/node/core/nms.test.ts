@@ -3,6 +3,7 @@ import { describe, it, expect, beforeAll } from 'vitest';
 import * as ort from 'onnxruntime-node';
 import { greedyNms, softNms, type NmsBoxColumns } from '../../../web/core/nms.ts';
 import { nmsModelBytes } from './onnx-nms-model.ts';
+import { rotatedIoU } from '../../../web/core/oriented-box.ts';
 
 /** ONNX corner boxes [y1, x1, y2, x2] (center_point_box = 0, either diagonal) → NMS columns, one class. */
 function fromOnnxCorners(boxes: number[][], scores: number[], classIdx?: number[]): NmsBoxColumns {
@@ -138,6 +139,47 @@ describe('softNms (Bodla et al. 2017)', () => {
   it('with linear decay at N_t and score threshold as hard NMS it equals greedy NMS when decayed boxes fall out', () => {
     const r = softNms(cols, { method: 'linear', iouThreshold: 0.5, scoreThreshold: 0.2 });
     expect(Array.from(r.keep)).toEqual([3, 0, 5]);
+  });
+});
+
+describe('candidate index: grid and R-tree give the same result as brute force', () => {
+  function bruteGreedy(c: NmsBoxColumns, thr: number): number[] {
+    const order = Array.from({ length: c.count }, (_, i) => i).sort((a, b) => c.score[b] - c.score[a] || a - b);
+    const dead = new Uint8Array(c.count);
+    const keep: number[] = [];
+    for (const i of order) {
+      if (dead[i]) continue;
+      keep.push(i);
+      for (const j of order) {
+        if (j === i || dead[j] || c.classIdx[j] !== c.classIdx[i]) continue;
+        const iou = rotatedIoU(
+          { cxM: c.cxM[i], cyM: c.cyM[i], lengthM: c.lengthM[i], widthM: c.widthM[i], angleRad: c.angleRad[i] },
+          { cxM: c.cxM[j], cyM: c.cyM[j], lengthM: c.lengthM[j], widthM: c.widthM[j], angleRad: c.angleRad[j] });
+        if (iou > thr && keep.indexOf(j) < 0) dead[j] = 1;
+      }
+    }
+    return keep;
+  }
+  it('mixed sizes (cars and 20–60 m arrays), rotated, two classes', () => {
+    const rnd = mulberry32(99);
+    const n = 600;
+    const c = {
+      count: n, cxM: new Float64Array(n), cyM: new Float64Array(n), lengthM: new Float32Array(n), widthM: new Float32Array(n),
+      angleRad: new Float32Array(n), score: new Float32Array(n), classIdx: new Uint8Array(n),
+    };
+    for (let i = 0; i < n; i++) {
+      const big = rnd() < 0.1;
+      c.cxM[i] = 500000 + rnd() * 150; c.cyM[i] = 5000000 + rnd() * 150; // UTM-sized coordinates
+      c.lengthM[i] = big ? 20 + rnd() * 40 : 3.5 + rnd() * 2; c.widthM[i] = big ? 10 + rnd() * 10 : 1.6 + rnd() * 0.4;
+      c.angleRad[i] = rnd() * Math.PI; c.score[i] = rnd(); c.classIdx[i] = big ? 1 : rnd() < 0.9 ? 0 : 1;
+    }
+    for (const thr of [0.1, 0.3, 0.5]) {
+      const brute = bruteGreedy(c, thr);
+      expect(Array.from(greedyNms(c, { iouThreshold: thr }))).toEqual(brute);
+      expect(Array.from(greedyNms(c, { iouThreshold: thr, forceTree: true }))).toEqual(brute);
+    }
+    const a = softNms(c, { method: 'gaussian' }), b = softNms(c, { method: 'gaussian', forceTree: true });
+    expect(Array.from(a.keep)).toEqual(Array.from(b.keep));
   });
 });
 

@@ -1,10 +1,10 @@
-// Test helper: a tiny protobuf encoder that writes a one-node ONNX model running the NonMaxSuppression operator.
-// Field numbers from onnx/onnx.proto (ModelProto, GraphProto, NodeProto, ValueInfoProto, TypeProto, TensorShapeProto).
+// Test helper: a tiny protobuf encoder that writes one-node ONNX models (NonMaxSuppression, MaxPool) for onnxruntime.
+// Field numbers from onnx/onnx.proto: ModelProto, GraphProto, NodeProto, AttributeProto, ValueInfoProto, TypeProto.
 
 type Bytes = number[];
 
 function varint(v: number | bigint): Bytes {
-  let x = BigInt(v);
+  let x = BigInt.asUintN(64, BigInt(v));
   const out: Bytes = [];
   do {
     let b = Number(x & 0x7fn);
@@ -20,34 +20,51 @@ const fBytes = (field: number, b: Bytes): Bytes => [...key(field, 2), ...varint(
 const fStr = (field: number, s: string): Bytes => fBytes(field, [...new TextEncoder().encode(s)]);
 const cat = (...parts: Bytes[]): Bytes => parts.flat();
 
-const ELEM_FLOAT = 1;
-const ELEM_INT64 = 7;
+export const ELEM_FLOAT = 1;
+export const ELEM_INT64 = 7;
 
-/** ValueInfoProto: name(1), type(2) → TypeProto.tensor_type(1) → elem_type(1), shape(2) → dim(1) → dim_param(2). */
-function valueInfo(name: string, elemType: number, dimParams: string[]): Bytes {
-  const shape = cat(...dimParams.map((d) => fBytes(1, fStr(2, d))));
-  const tensorType = cat(fInt(1, elemType), fBytes(2, shape));
-  return cat(fStr(1, name), fBytes(2, fBytes(1, tensorType)));
+export interface ValueSpec { name: string; elemType: number; dims: Array<number | string> }
+
+/** ValueInfoProto: name(1), type(2) → TypeProto.tensor_type(1) → elem_type(1), shape(2) → dim(1) → value(1)|param(2). */
+function valueInfo(v: ValueSpec): Bytes {
+  const shape = cat(...v.dims.map((d) => fBytes(1, typeof d === 'number' ? fInt(1, d) : fStr(2, d))));
+  const tensorType = cat(fInt(1, v.elemType), fBytes(2, shape));
+  return cat(fStr(1, v.name), fBytes(2, fBytes(1, tensorType)));
 }
 
-/**
- * ModelProto{ir_version(1)=7, opset_import(8){domain(1)="", version(2)=11}, graph(7)} with one
- * NodeProto{input(1)×5, output(2), op_type(4)="NonMaxSuppression"}; center_point_box defaults to 0 (corners
- * [y1, x1, y2, x2]).
- */
-export function nmsModelBytes(): Uint8Array {
-  const inputs = ['boxes', 'scores', 'max_output_boxes_per_class', 'iou_threshold', 'score_threshold'];
-  const node = cat(...inputs.map((n) => fStr(1, n)), fStr(2, 'selected_indices'), fStr(3, 'nms'), fStr(4, 'NonMaxSuppression'));
-  const graph = cat(
-    fBytes(1, node),
-    fStr(2, 'nms_graph'),
-    fBytes(11, valueInfo('boxes', ELEM_FLOAT, ['B', 'N', 'four'])),
-    fBytes(11, valueInfo('scores', ELEM_FLOAT, ['B', 'C', 'N'])),
-    fBytes(11, valueInfo('max_output_boxes_per_class', ELEM_INT64, ['one'])),
-    fBytes(11, valueInfo('iou_threshold', ELEM_FLOAT, ['one'])),
-    fBytes(11, valueInfo('score_threshold', ELEM_FLOAT, ['one'])),
-    fBytes(12, valueInfo('selected_indices', ELEM_INT64, ['K', 'three'])),
+/** AttributeProto with INTS: name(1), ints(8) repeated, type(20) = 7. */
+function intsAttribute(name: string, values: number[]): Bytes {
+  return cat(fStr(1, name), ...values.map((x) => fInt(8, x)), fInt(20, 7));
+}
+
+/** ModelProto{ir_version(1)=7, graph(7), opset_import(8){domain(1)="", version(2)}} with one NodeProto. */
+export function singleNodeModel(opType: string, inputs: ValueSpec[], outputs: ValueSpec[], intsAttrs: Record<string, number[]> = {}, opset = 11): Uint8Array {
+  const node = cat(
+    ...inputs.map((v) => fStr(1, v.name)), ...outputs.map((v) => fStr(2, v.name)), fStr(3, 'node0'), fStr(4, opType),
+    ...Object.entries(intsAttrs).map(([k, v]) => fBytes(5, intsAttribute(k, v))),
   );
-  const model = cat(fInt(1, 7), fStr(2, 'seamtally-test'), fBytes(7, graph), fBytes(8, cat(fStr(1, ''), fInt(2, 11))));
-  return Uint8Array.from(model);
+  const graph = cat(
+    fBytes(1, node), fStr(2, 'graph0'),
+    ...inputs.map((v) => fBytes(11, valueInfo(v))), ...outputs.map((v) => fBytes(12, valueInfo(v))),
+  );
+  return Uint8Array.from(cat(fInt(1, 7), fStr(2, 'seamtally-test'), fBytes(7, graph), fBytes(8, cat(fStr(1, ''), fInt(2, opset)))));
+}
+
+/** NonMaxSuppression (opset 11), center_point_box = 0 (corners [y1, x1, y2, x2]). */
+export function nmsModelBytes(): Uint8Array {
+  return singleNodeModel('NonMaxSuppression', [
+    { name: 'boxes', elemType: ELEM_FLOAT, dims: ['B', 'N', 4] },
+    { name: 'scores', elemType: ELEM_FLOAT, dims: ['B', 'C', 'N'] },
+    { name: 'max_output_boxes_per_class', elemType: ELEM_INT64, dims: [1] },
+    { name: 'iou_threshold', elemType: ELEM_FLOAT, dims: [1] },
+    { name: 'score_threshold', elemType: ELEM_FLOAT, dims: [1] },
+  ], [{ name: 'selected_indices', elemType: ELEM_INT64, dims: ['K', 3] }]);
+}
+
+/** MaxPool 3×3, stride 1, pad 1: CenterNet's peak rule is heat == maxpool(heat). */
+export function maxPool3Bytes(): Uint8Array {
+  return singleNodeModel('MaxPool',
+    [{ name: 'x', elemType: ELEM_FLOAT, dims: [1, 'C', 'H', 'W'] }],
+    [{ name: 'y', elemType: ELEM_FLOAT, dims: [1, 'C', 'H', 'W'] }],
+    { kernel_shape: [3, 3], pads: [1, 1, 1, 1], strides: [1, 1] });
 }

@@ -48,6 +48,34 @@ describe('geotiff source (GDAL-written fixtures)', () => {
     });
   }
 
+  // Layouts GDAL writes (creation options from https://gdal.org/drivers/raster/gtiff.html): each must read back the
+  // exact samples, whether through the fast block decoder or geotiff's general path (big-endian, YCbCr...).
+  const layouts: { name: string; dtype: 'uint8' | 'uint16' | 'float32'; co: string[] }[] = [
+    { name: 'uint16 DEFLATE predictor 2, tiled', dtype: 'uint16', co: ['-co', 'TILED=YES', '-co', 'BLOCKXSIZE=48', '-co', 'BLOCKYSIZE=32', '-co', 'COMPRESS=DEFLATE', '-co', 'PREDICTOR=2'] },
+    { name: 'uint8 LZW band-interleaved (planar 2), tiled', dtype: 'uint8', co: ['-co', 'TILED=YES', '-co', 'BLOCKXSIZE=32', '-co', 'BLOCKYSIZE=32', '-co', 'COMPRESS=LZW', '-co', 'INTERLEAVE=BAND'] },
+    { name: 'float32 strips of 7 rows, predictor 3', dtype: 'float32', co: ['-co', 'BLOCKYSIZE=7', '-co', 'COMPRESS=DEFLATE', '-co', 'PREDICTOR=3'] },
+    { name: 'uint16 big-endian (general path)', dtype: 'uint16', co: ['-co', 'ENDIANNESS=BIG', '-co', 'TILED=YES', '-co', 'BLOCKXSIZE=32', '-co', 'BLOCKYSIZE=32'] },
+  ];
+  for (const l of layouts) {
+    it(`layout: ${l.name}`, async () => {
+      const n = W * H * B;
+      const arr = l.dtype === 'uint8' ? new Uint8Array(n) : l.dtype === 'uint16' ? new Uint16Array(n) : new Float32Array(n);
+      for (let i = 0; i < n; i++) arr[i] = l.dtype === 'float32' ? Math.sin(i) * 1000 : l.dtype === 'uint16' ? (i * 977) % 4096 : (i * 31) & 255;
+      const path = writeGeoTiff(join(dir, `${l.name.replace(/\W+/g, '_')}.tif`), { widthPx: W, heightPx: H, bandCount: B, dtype: l.dtype, data: arr }, {
+        epsg: 32633, ulX: 500000, ulY: 5300000, gsdM: 0.3, extraArgs: l.co,
+      });
+      const src = await open(path);
+      const win = { minXPx: 13, minYPx: 5, maxXPx: 140, maxYPx: 101 };
+      const r = await src.readWindow(win);
+      for (let b = 0; b < B; b++) for (let y = win.minYPx; y < win.maxYPx; y++) for (let x = win.minXPx; x < win.maxXPx; x++) {
+        const got = r.bands[b][(y - win.minYPx) * r.widthPx + x - win.minXPx];
+        const want = arr[b * W * H + y * W + x];
+        if (got !== want) throw new Error(`${l.name} band ${b} (${x},${y}): ${got} != ${want}`);
+      }
+      await src.close();
+    });
+  }
+
   it('reads metadata: tile size, overviews (as gdalinfo lists them), nodata, date', async () => {
     const src = await open(tiled);
     // Outside reference: gdalinfo -json (Debian gdal-bin) of the same file.

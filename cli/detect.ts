@@ -1,0 +1,224 @@
+// `seamtally detect`: scenes of one date + AOIs + model → detections.geojson, counts.csv, counts.json (onnxruntime-node).
+import { closeSync, existsSync, mkdirSync, openSync, readFileSync, readSync, renameSync, statSync, writeFileSync } from 'node:fs';
+import { basename, join } from 'node:path';
+import { parseArgs } from 'node:util';
+import { parseAois, reprojectAoi, type AoiInCrs } from '../web/core/aoi.ts';
+import { countPerAoi, type CountAoi } from '../web/core/counts.ts';
+import { aoiCoverage, frameToScenePxMapping, type CoverageMask } from '../web/core/coverage.ts';
+import { epsgName } from '../web/core/crs.ts';
+import { SeamtallyError } from '../web/core/errors.ts';
+import { countsToCsv, countsToJson } from '../web/core/export-csv.ts';
+import { detectionsToGeoJson } from '../web/core/export-geojson.ts';
+import { multiPolygonAreaM2 } from '../web/core/geodesic-area.ts';
+import { parseSidecar, type ModelSidecar } from '../web/core/model-contract.ts';
+import { prepareScene, runFrameEpsg, runScene, type ScenePipeline, type TileTimings } from '../web/core/pipeline.ts';
+import { COUNTING_RULE } from '../web/core/point-in-polygon.ts';
+import { pickOverviewLevel, type SceneSource } from '../web/core/scene-source.ts';
+import { mergeDetectionTables } from '../web/core/seam-merge.ts';
+import type { DetectionTable } from '../web/core/types.ts';
+import { openGeoTiffPath } from '../web/io/geotiff-source.ts';
+import { openNodeModel } from '../web/io/ort-node.ts';
+
+const USAGE = 'Usage: seamtally detect SCENE.tif... --aoi AOI.geojson --model FILE.onnx --out DIR [--tile PX] [--overlap PX|auto] [--min-score S] [--date YYYY-MM-DD] [--threads N] [--bands R,G,B] [--quiet]';
+
+export interface DetectArgs {
+  scenes: string[];
+  aoi: string;
+  model: string;
+  out: string;
+  tilePx?: number;
+  overlapPx: number | 'auto';
+  minScore?: number;
+  date?: string;
+  threads: number;
+  bands?: number[];
+  quiet: boolean;
+}
+
+function bad(message: string): never {
+  throw new SeamtallyError('bad-argument', `${message} ${USAGE}`);
+}
+
+function intArg(v: string | undefined, name: string, min: number): number | undefined {
+  if (v === undefined) return undefined;
+  const n = Number(v);
+  if (!Number.isInteger(n) || n < min) bad(`--${name} must be a whole number ≥ ${min}, not "${v}".`);
+  return n;
+}
+
+/** Parse argv (after `detect`). Throws SeamtallyError('bad-argument') with the usage line. */
+export function parseDetectArgs(argv: string[]): DetectArgs {
+  let parsed;
+  try {
+    parsed = parseArgs({
+      args: argv,
+      allowPositionals: true,
+      options: {
+        aoi: { type: 'string' }, model: { type: 'string' }, out: { type: 'string' }, tile: { type: 'string' },
+        overlap: { type: 'string' }, 'min-score': { type: 'string' }, date: { type: 'string' }, threads: { type: 'string' },
+        bands: { type: 'string' }, quiet: { type: 'boolean' },
+      },
+    });
+  } catch (err) {
+    bad(`${(err as Error).message}.`);
+  }
+  const v = parsed.values;
+  if (parsed.positionals.length === 0) bad('Give at least one scene file.');
+  if (!v.aoi) bad('--aoi is required.');
+  if (!v.model) bad('--model is required.');
+  if (!v.out) bad('--out is required.');
+  const ov = v.overlap ?? 'auto';
+  const overlapPx = ov === 'auto' ? 'auto' : intArg(ov, 'overlap', 0)!;
+  let minScore: number | undefined;
+  if (v['min-score'] !== undefined) {
+    minScore = Number(v['min-score']);
+    if (!(minScore > 0 && minScore < 1)) bad(`--min-score must be a number between 0 and 1, not "${v['min-score']}".`);
+  }
+  if (v.date !== undefined && !/^\d{4}-\d{2}-\d{2}$/.test(v.date)) bad(`--date must look like 2024-05-17, not "${v.date}".`);
+  let bands: number[] | undefined;
+  if (v.bands !== undefined) {
+    bands = v.bands.split(',').map((s) => Number(s.trim()) - 1);
+    if (!bands.every((b) => Number.isInteger(b) && b >= 0) || (bands.length !== 1 && bands.length !== 3)) bad(`--bands takes 1 or 3 band numbers counted from 1 (e.g. 5,3,2), not "${v.bands}".`);
+  }
+  return {
+    scenes: parsed.positionals, aoi: v.aoi, model: v.model, out: v.out, tilePx: intArg(v.tile, 'tile', 16), overlapPx, minScore,
+    date: v.date, threads: intArg(v.threads, 'threads', 1) ?? 1, bands, quiet: v.quiet ?? false,
+  };
+}
+
+/** `<model>.model.json` next to `<model>.onnx`. */
+export function sidecarPath(modelPath: string): string {
+  return modelPath.replace(/\.onnx$/i, '') + '.model.json';
+}
+
+function readText(path: string, what: string): string {
+  if (!existsSync(path)) throw new SeamtallyError('bad-argument', `The ${what} "${path}" does not exist: check the path.`);
+  return readFileSync(path, 'utf8');
+}
+
+function loadSidecar(modelPath: string): ModelSidecar {
+  const p = sidecarPath(modelPath);
+  if (!existsSync(p)) throw new SeamtallyError('sidecar-invalid', `The model has no sidecar: expected "${p}" next to the .onnx file (format seamtally-model/1, see README).`);
+  return parseSidecar(readFileSync(p, 'utf8'));
+}
+
+async function openScene(path: string): Promise<SceneSource> {
+  if (!existsSync(path)) throw new SeamtallyError('bad-argument', `The scene "${path}" does not exist: check the path.`);
+  const head = new Uint8Array(8);
+  const fd = openSync(path, 'r');
+  try { readSync(fd, head, 0, 8, 0); } finally { closeSync(fd); }
+  return openGeoTiffPath(path, { byteLength: statSync(path).size, head });
+}
+
+/** A scene's valid-pixel mask from an overview (or the scene itself when small; else its footprint only). */
+async function coverageMask(src: SceneSource, frameEpsg: number): Promise<CoverageMask> {
+  const info = src.info;
+  const level = pickOverviewLevel(info, 256);
+  const sz = level === 0 ? info : info.overviews[level - 1];
+  const small = Math.max(sz.widthPx, sz.heightPx) <= 2048;
+  let validMask = new Uint8Array([1]);
+  let w = 1, h = 1;
+  if (small && info.nodata !== null) {
+    const win = await src.readWindow({ minXPx: 0, minYPx: 0, maxXPx: sz.widthPx, maxYPx: sz.heightPx }, { overviewLevel: level });
+    w = sz.widthPx; h = sz.heightPx;
+    validMask = new Uint8Array(w * h);
+    for (const b of win.bands) for (let i = 0; i < w * h; i++) if (b[i] !== info.nodata) validMask[i] = 1;
+  }
+  return {
+    frameToScenePx: frameToScenePxMapping(info.georef.geoTransform, info.georef.epsg, frameEpsg),
+    sceneWidthPx: info.widthPx, sceneHeightPx: info.heightPx, validMask, maskWidth: w, maskHeight: h,
+  };
+}
+
+function sceneDate(sources: SceneSource[], given?: string): string {
+  if (given) return given;
+  const dates = [...new Set(sources.map((s) => s.info.acquisitionDate).filter((d): d is string => d !== null))];
+  if (dates.length > 1) throw new SeamtallyError('bad-argument', `The scenes carry different acquisition dates (${dates.join(', ')}); one run counts one date: run each date separately, or pass --date if they belong together.`);
+  return dates[0] ?? 'unknown';
+}
+
+function writeAtomic(path: string, text: string): void {
+  writeFileSync(`${path}.part`, text);
+  renameSync(`${path}.part`, path);
+}
+
+/** Progress on stderr: one updating line on a terminal, a line every ~2 s otherwise. */
+function progressPrinter(quiet: boolean) {
+  let last = 0;
+  return (label: string, done: number, total: number, scenePx: number, ms: number) => {
+    if (quiet) return;
+    const t = performance.now();
+    if (done !== total && t - last < (process.stderr.isTTY ? 200 : 2000)) return;
+    last = t;
+    const mpx = ms > 0 ? scenePx / 1e6 / (ms / 1000) : 0;
+    const line = `${label}: tiles ${done}/${total}, ${mpx.toFixed(2)} MPix/s`;
+    process.stderr.write(process.stderr.isTTY ? `\r${line}${done === total ? '\n' : ''}` : `${line}\n`);
+  };
+}
+
+/** The command. Returns the exit code (0 = written); bad input throws SeamtallyError (main prints its sentence). */
+export async function run(argv: string[]): Promise<number> {
+  const args = parseDetectArgs(argv);
+  const sidecar = loadSidecar(args.model);
+  const aois = parseAois(readText(args.aoi, 'AOI file'));
+  const modelBytes = new Uint8Array(readFileSync(args.model));
+  const model = await openNodeModel(modelBytes, sidecar, { threads: args.threads, tilePx: args.tilePx });
+  const sources: SceneSource[] = [];
+  try {
+    for (const p of args.scenes) sources.push(await openScene(p));
+    const frameEpsg = runFrameEpsg(sources);
+    const date = sceneDate(sources, args.date);
+    // AOIs in the frame, their geodesic areas and imaged fractions; an AOI that no scene images is an error.
+    const masks = await Promise.all(sources.map((s) => coverageMask(s, frameEpsg)));
+    const countAois: CountAoi[] = aois.map((a) => {
+      const inFrame: AoiInCrs = reprojectAoi(a, frameEpsg);
+      const cov = aoiCoverage(inFrame.polygons, masks);
+      if (cov.fraction === 0) {
+        throw new SeamtallyError('aoi-outside', `AOI "${a.name}" lies outside every scene given (${args.scenes.map((s) => basename(s)).join(', ')}): check that the AOI and the scenes show the same place.`, { aoi: a.id });
+      }
+      return { aoi: inFrame, areaM2: multiPolygonAreaM2(a.polygonsLonLat), coverage: cov.fraction };
+    });
+    const progress = progressPrinter(args.quiet);
+    const tables: DetectionTable[] = [];
+    const totals: TileTimings = { readMs: 0, resampleMs: 0, inferMs: 0, decodeMs: 0 };
+    let tilesRun = 0;
+    let pipelines: ScenePipeline[] = [];
+    const started = performance.now();
+    for (let i = 0; i < sources.length; i++) {
+      const p = await prepareScene(sources[i], i, sidecar, { tilePx: args.tilePx, overlapPx: args.overlapPx, bands: args.bands, frameEpsg, minScore: args.minScore });
+      pipelines.push(p);
+      const label = `scene ${i + 1}/${sources.length} ${sources[i].info.name}`;
+      const r = await runScene(p, model.infer, { onProgress: (q) => progress(label, q.tilesDone, q.tilesTotal, q.scenePxDone, q.elapsedMs) });
+      tables.push(...r.tables);
+      tilesRun += r.tilesRun;
+      for (const k of Object.keys(totals) as (keyof TileTimings)[]) totals[k] += r.timings[k];
+    }
+    const t0 = performance.now();
+    const merged = tables.length ? mergeDetectionTables(tables) : mergeDetectionTables([]);
+    const detections = merged.frameCrs ? merged : { ...merged, frameCrs: epsgName(frameEpsg) };
+    const mergeMs = performance.now() - t0;
+    const minScore = pipelines[0]?.minScore ?? 0.5;
+    const gsdM = Math.max(...sources.map((s) => s.info.georef.gsdM));
+    const rows = countPerAoi({ detections, classes: sidecar.classes, aois: countAois, date, gsdM }, { minScore });
+    const scenesMeta = sources.map((s) => ({ name: s.info.name, acquisitionDate: s.info.acquisitionDate ?? date, gsdM: s.info.georef.gsdM }));
+    const geojson = detectionsToGeoJson({ detections, classes: sidecar.classes, scenes: scenesMeta }, { minScore });
+    mkdirSync(args.out, { recursive: true });
+    writeAtomic(join(args.out, 'detections.geojson'), JSON.stringify(geojson) + '\n');
+    writeAtomic(join(args.out, 'counts.csv'), countsToCsv(rows));
+    const plans = pipelines.map((p) => ({ scene: p.source.info.name, tilePx: p.plan.tilePx, overlapPx: p.plan.overlapPx, tiles: p.plan.tiles.length, overheadRatio: p.plan.overheadRatio, bands: p.bands.indices.map((b) => b + 1), stretch: p.stretch }));
+    const timing = { tilesRun, msPerTile: tilesRun ? { read: totals.readMs / tilesRun, resampleNormalise: totals.resampleMs / tilesRun, infer: totals.inferMs / tilesRun, decode: totals.decodeMs / tilesRun } : null, mergeMs, totalMs: performance.now() - started };
+    writeAtomic(join(args.out, 'counts.json'), JSON.stringify(countsToJson(rows, COUNTING_RULE, { model: sidecar.name ?? basename(args.model), frameCrs: detections.frameCrs, date, scenes: scenesMeta, tiling: plans, timing }), null, 2) + '\n');
+    if (!args.quiet) {
+      for (const r of rows) process.stderr.write(`${r.aoiName} ${r.date} ${r.className}: ${r.count} (coverage ${(r.coverage * 100).toFixed(1)} %)\n`);
+      if (timing.msPerTile) {
+        const m = timing.msPerTile;
+        process.stderr.write(`${detections.count} detections from ${tilesRun} tiles; ms per tile: read ${m.read.toFixed(2)}, resample+normalise ${m.resampleNormalise.toFixed(2)}, infer ${m.infer.toFixed(2)}, decode ${m.decode.toFixed(2)}; merge ${mergeMs.toFixed(1)} ms\n`);
+      }
+    }
+    pipelines = [];
+    return 0;
+  } finally {
+    await model.close();
+    for (const s of sources) await s.close();
+  }
+}

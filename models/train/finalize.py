@@ -1,0 +1,61 @@
+"""Write the shipped model: models/<name>.onnx from a checkpoint and its sidecar <name>.model.json
+(seamtally-model/1). Quality curves are added afterwards by `seamtally eval --write-quality`."""
+import argparse
+import json
+import os
+import sys
+
+sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
+from export import export_onnx, OUTPUT_NAMES  # noqa: E402
+from model import CLASSES, STRIDE, SeamtallyDet, count_macs  # noqa: E402
+
+
+def sidecar(name, min_score, version):
+    return {
+        "format": "seamtally-model/1",
+        "name": name,
+        "version": version,
+        "card": "models/README.md",
+        "classes": CLASSES,
+        "inputGsdM": 0.3,
+        "tilePx": 512,
+        "input": {"name": "image", "bands": "rgb", "scale": 1 / 255, "mean": [0, 0, 0], "std": [1, 1, 1]},
+        "output": {"layout": "center-heatmap", "stride": STRIDE, "heatmap": OUTPUT_NAMES[0], "size": OUTPUT_NAMES[1],
+                   "offset": OUTPUT_NAMES[2], "angle": OUTPUT_NAMES[3]},
+        "minScore": min_score,
+        "objects": {
+            # vehicle: car width ~1.8 m (critical dimension); trucks up to ~10 m long
+            "vehicle": {"criticalDimM": 1.8, "maxExtentM": 10},
+            # solar_panel: one module's short side ~1.1 m; the synthesizer's largest array 25 m
+            "solar_panel": {"criticalDimM": 1.1, "maxExtentM": 25},
+        },
+    }
+
+
+def main():
+    ap = argparse.ArgumentParser()
+    ap.add_argument("ckpt")
+    ap.add_argument("--out-dir", default=os.path.join(os.path.dirname(os.path.abspath(__file__)), ".."))
+    ap.add_argument("--name", default="seamtally-det")
+    ap.add_argument("--min-score", type=float, default=0.3)
+    ap.add_argument("--version", default="1")
+    a = ap.parse_args()
+    onnx_path = os.path.join(a.out_dir, a.name + ".onnx")
+    export_onnx(a.ckpt, onnx_path)
+    side_path = os.path.join(a.out_dir, a.name + ".model.json")
+    old = {}
+    if os.path.exists(side_path):
+        old = json.load(open(side_path))
+    sc = sidecar(a.name, a.min_score, a.version)
+    if "quality" in old:
+        sc["quality"] = old["quality"]  # replaced by the next `seamtally eval --write-quality`
+    with open(side_path, "w") as f:
+        json.dump(sc, f, indent=2)
+        f.write("\n")
+    macs = count_macs(SeamtallyDet())
+    print(f"wrote {onnx_path} ({os.path.getsize(onnx_path) / 1e6:.2f} MB), {side_path}; "
+          f"{macs / 1e9:.3f} GMAC = {2 * macs / 1e9:.3f} GFLOP per 512x512 tile")
+
+
+if __name__ == "__main__":
+    main()

@@ -1,0 +1,88 @@
+// Training / validation / evaluation scene sets for the detector, written with the synthesizer's own scene writer
+// (the same code `seamtally synth` runs). The sets never share seeds; the evaluation set also uses a scenario,
+// dates (sun angles, seasons) and sensor settings the training set does not.
+// Usage: node --import ./models/train/cjs-named-exports.mjs --import tsx models/train/make-scenes.ts train|val|eval DIR [count]
+import { existsSync, mkdirSync, writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { makeSceneParams, type BandLayout, type BitDepth, type SceneOptions } from '../../synth/scene-params.ts';
+import { writeScene } from '../../synth/write-scene.ts';
+import { fileSink, fileSpools } from '../../cli/file-sink.ts';
+
+/** Small deterministic PRNG (mulberry32) so every set is reproducible. */
+function prng(seed: number): () => number {
+  let a = seed >>> 0;
+  return () => {
+    a = (a + 0x6d2b79f5) >>> 0;
+    let t = Math.imul(a ^ (a >>> 15), a | 1);
+    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
+    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
+  };
+}
+
+const LAYOUTS: BandLayout[] = ['rgb', 'rgbn', 'pan', '8'];
+const BITS: BitDepth[] = [8, 11, 12, 16];
+/** Ground side of a scene in metres (the pixel size follows from the GSD), capped at MAX_PX pixels. */
+const SIDE_M = 420;
+const MAX_PX = 1200;
+const sidePx = (gsdM: number) => Math.min(MAX_PX, Math.round(SIDE_M / gsdM));
+
+function pick<T>(r: () => number, xs: readonly T[]): T { return xs[Math.floor(r() * xs.length)]; }
+function dateIn(r: () => number, months: number[]): string {
+  const m = pick(r, months);
+  return `2024-${String(m).padStart(2, '0')}-${String(1 + Math.floor(r() * 28)).padStart(2, '0')}`;
+}
+
+/** The scene options of one set. */
+export function sceneSet(set: 'train' | 'val' | 'eval', count: number): SceneOptions[] {
+  const out: SceneOptions[] = [];
+  if (set === 'eval') {
+    // five evaluation GSDs × scenes; held-out seeds (9001+), autumn/winter dates, other sensor settings
+    const gsds = [0.15, 0.3, 0.45, 0.6, 0.8];
+    const r = prng(9001);
+    const per = Math.max(1, Math.round(count / gsds.length));
+    for (const g of gsds) {
+      for (let k = 0; k < per; k++) {
+        const seed = 9001 + out.length;
+        out.push({
+          name: `eval-${String(out.length).padStart(2, '0')}-g${g}`, seed, gsdM: g, widthPx: sidePx(g),
+          scenario: k % 2 === 0 ? 'business-park' : 'town', date: dateIn(r, [10, 11, 12, 1, 2]),
+          bands: LAYOUTS[(out.length + k) % 4], bits: BITS[(out.length * 3 + k) % 4],
+          psfSigmaPx: 0.35 + 0.4 * r(), hazeFraction: 0.02 + 0.1 * r(), readNoiseE: 10 + 30 * r(), occupancy: 0.3 + 0.6 * r(),
+        });
+      }
+    }
+    return out;
+  }
+  const r = prng(set === 'train' ? 1 : 5001);
+  for (let i = 0; i < count; i++) {
+    const g = Math.exp(Math.log(0.13) + r() * (Math.log(0.85) - Math.log(0.13)));
+    const gsdM = Math.round(g * 1000) / 1000;
+    out.push({
+      name: `${set}-${String(i).padStart(3, '0')}`, seed: (set === 'train' ? 1 : 5001) + i, gsdM, widthPx: sidePx(gsdM),
+      scenario: 'town', date: dateIn(r, [3, 4, 5, 6, 7, 8, 9]), bands: pick(r, LAYOUTS), bits: pick(r, BITS),
+      psfSigmaPx: 0.3 + 0.5 * r(), hazeFraction: 0.12 * r() * r(), readNoiseE: 5 + 40 * r(), occupancy: 0.15 + 0.8 * r(),
+      footprintRotDeg: -8 + 16 * r(),
+    });
+  }
+  return out;
+}
+
+async function main(): Promise<void> {
+  const [set, dir, n] = process.argv.slice(2);
+  if (set !== 'train' && set !== 'val' && set !== 'eval') throw new Error('usage: make-scenes.ts train|val|eval DIR [count]');
+  mkdirSync(dir, { recursive: true });
+  for (const o of sceneSet(set, Number(n ?? (set === 'train' ? 40 : set === 'val' ? 4 : 10)))) {
+    const p = makeSceneParams(o);
+    const tif = join(dir, `${p.name}.tif`);
+    if (existsSync(tif)) continue;
+    const sink = fileSink(tif);
+    const parts: string[] = [];
+    const t0 = performance.now();
+    const st = writeScene(p, { tif: sink, newSpool: fileSpools(join(dir, p.name)), truth: (t) => { parts.push(t); } });
+    writeFileSync(join(dir, `${p.name}.truth.geojson`), parts.join(''));
+    sink.commit();
+    process.stderr.write(`${p.name}: ${p.widthPx} px at ${p.gsdM} m, ${p.bands}/${p.bits}-bit, ${p.date}, ${st.truthCount} objects, ${((performance.now() - t0) / 1000).toFixed(1)} s\n`);
+  }
+}
+
+await main();

@@ -1,0 +1,110 @@
+// Tiling plan: cores partition the resampled scene exactly, windows hold every object whole, overhead figures.
+import { describe, it, expect } from 'vitest';
+import { planTiles, autoOverlapPx, tilesTouching, subsetOverheadRatio, type TilePlan } from '../../../web/core/tiling.ts';
+import { SeamtallyError } from '../../../web/core/errors.ts';
+
+function coreCoverage(plan: TilePlan): Uint8Array {
+  const cov = new Uint8Array(plan.modelWidthPx * plan.modelHeightPx);
+  for (const t of plan.tiles) {
+    for (let y = t.corePx.minYPx; y < t.corePx.maxYPx; y++) {
+      for (let x = t.corePx.minXPx; x < t.corePx.maxXPx; x++) cov[y * plan.modelWidthPx + x]++;
+    }
+  }
+  return cov;
+}
+
+const CASES = [
+  { sceneWidthPx: 1000, sceneHeightPx: 700, sceneGsdM: 0.3, modelGsdM: 0.3, tilePx: 256, maxObjectExtentM: 6 },
+  { sceneWidthPx: 1333, sceneHeightPx: 517, sceneGsdM: 0.5, modelGsdM: 0.3, tilePx: 512, maxObjectExtentM: 7 }, // upsampled
+  { sceneWidthPx: 2049, sceneHeightPx: 1500, sceneGsdM: 0.15, modelGsdM: 0.3, tilePx: 320, maxObjectExtentM: 12 }, // downsampled
+  { sceneWidthPx: 300, sceneHeightPx: 200, sceneGsdM: 0.3, modelGsdM: 0.3, tilePx: 512, maxObjectExtentM: 7 }, // smaller than a tile
+  { sceneWidthPx: 777, sceneHeightPx: 1031, sceneGsdM: 0.31, modelGsdM: 0.3, tilePx: 128, maxObjectExtentM: 5, overlapPx: 9 },
+  { sceneWidthPx: 513, sceneHeightPx: 512, sceneGsdM: 0.3, modelGsdM: 0.3, tilePx: 512, maxObjectExtentM: 0, overlapPx: 0 },
+];
+
+describe('planTiles', () => {
+  for (const c of CASES) {
+    const label = `${c.sceneWidthPx}×${c.sceneHeightPx} px at ${c.sceneGsdM} m → ${c.modelGsdM} m, tile ${c.tilePx}`;
+    it(`every model pixel lies in exactly one core: ${label}`, () => {
+      const plan = planTiles(c);
+      expect(plan.modelWidthPx).toBe(Math.ceil(c.sceneWidthPx * (c.sceneGsdM / c.modelGsdM) - 1e-9));
+      const cov = coreCoverage(plan);
+      expect(cov.every((v) => v === 1)).toBe(true);
+    });
+    it(`windows hold each core with the overlap on every side (clipped at scene edges): ${label}`, () => {
+      const plan = planTiles(c);
+      const ov = plan.overlapPx;
+      for (const t of plan.tiles) {
+        const w = t.windowModelPx, k = t.corePx;
+        expect(w.minXPx).toBeLessThanOrEqual(Math.max(0, k.minXPx - ov));
+        expect(w.minYPx).toBeLessThanOrEqual(Math.max(0, k.minYPx - ov));
+        expect(w.maxXPx).toBeGreaterThanOrEqual(Math.min(plan.modelWidthPx, k.maxXPx + ov));
+        expect(w.maxYPx).toBeGreaterThanOrEqual(Math.min(plan.modelHeightPx, k.maxYPx + ov));
+        expect(w.minXPx).toBeGreaterThanOrEqual(0);
+        expect(w.maxXPx).toBeLessThanOrEqual(plan.modelWidthPx);
+        expect(w.maxXPx - w.minXPx).toBe(Math.min(c.tilePx, plan.modelWidthPx));
+        expect(w.maxYPx - w.minYPx).toBe(Math.min(c.tilePx, plan.modelHeightPx));
+        // Scene windows: exact float mapping, integer read window contains it and stays inside the scene.
+        expect(t.windowScenePx.minXPx).toBeCloseTo(w.minXPx / plan.scale, 9);
+        expect(t.readScenePx.minXPx).toBeLessThanOrEqual(t.windowScenePx.minXPx);
+        expect(t.readScenePx.maxXPx).toBeGreaterThanOrEqual(Math.min(c.sceneWidthPx, t.windowScenePx.maxXPx));
+        expect(t.readScenePx.minYPx).toBeGreaterThanOrEqual(0);
+        expect(t.readScenePx.maxYPx).toBeLessThanOrEqual(c.sceneHeightPx);
+      }
+    });
+  }
+
+  it('auto overlap ≥ half the largest object extent plus context: ceil(extent / 2 / gsd) + 8', () => {
+    expect(autoOverlapPx(7, 0.3)).toBe(Math.ceil(3.5 / 0.3) + 8); // 12 + 8
+    expect(autoOverlapPx(6, 0.3)).toBe(18); // 3 / 0.3 = 10 exactly, no float creep to 11
+    const plan = planTiles({ sceneWidthPx: 4000, sceneHeightPx: 4000, sceneGsdM: 0.3, modelGsdM: 0.3, tilePx: 512, maxObjectExtentM: 7 });
+    expect(plan.overlapPx * 0.3).toBeGreaterThanOrEqual(7 / 2);
+  });
+
+  it('any object whose centre lies in a core fits wholly inside that tile\'s window (random objects)', () => {
+    const plan = planTiles({ sceneWidthPx: 2500, sceneHeightPx: 1800, sceneGsdM: 0.4, modelGsdM: 0.3, tilePx: 384, maxObjectExtentM: 8 });
+    const extentPx = 8 / 0.3;
+    let seed = 7;
+    const rnd = () => ((seed = (seed * 16807) % 2147483647) / 2147483647);
+    for (let n = 0; n < 5000; n++) {
+      const x = rnd() * plan.modelWidthPx, y = rnd() * plan.modelHeightPx;
+      const owners = plan.tiles.filter((t) => x >= t.corePx.minXPx && x < t.corePx.maxXPx && y >= t.corePx.minYPx && y < t.corePx.maxYPx);
+      expect(owners.length).toBe(1);
+      const w = owners[0].windowModelPx;
+      expect(w.minXPx).toBeLessThanOrEqual(Math.max(0, x - extentPx / 2));
+      expect(w.maxXPx).toBeGreaterThanOrEqual(Math.min(plan.modelWidthPx, x + extentPx / 2));
+      expect(w.minYPx).toBeLessThanOrEqual(Math.max(0, y - extentPx / 2));
+      expect(w.maxYPx).toBeGreaterThanOrEqual(Math.min(plan.modelHeightPx, y + extentPx / 2));
+    }
+  });
+
+  it('overhead = inferred pixels / scene pixels (figures printed for the report)', () => {
+    const rows: string[] = [];
+    for (const [tilePx, extentM] of [[512, 7], [512, 12], [1024, 7], [1024, 30], [256, 7]] as const) {
+      const plan = planTiles({ sceneWidthPx: 16000, sceneHeightPx: 16000, sceneGsdM: 0.3, modelGsdM: 0.3, tilePx, maxObjectExtentM: extentM });
+      let inferred = 0;
+      for (const t of plan.tiles) inferred += (t.windowModelPx.maxXPx - t.windowModelPx.minXPx) * (t.windowModelPx.maxYPx - t.windowModelPx.minYPx);
+      expect(plan.overheadRatio).toBeCloseTo(inferred / (16000 * 16000), 12);
+      expect(plan.tiles.length).toBe(Math.ceil(16000 / plan.coreStepPx) ** 2);
+      rows.push(`tile ${tilePx}, extent ${extentM} m → overlap ${plan.overlapPx} px, ${plan.tiles.length} tiles, overhead ${plan.overheadRatio.toFixed(3)}`);
+    }
+    console.log(rows.join('\n'));
+  });
+
+  it('tilesTouching keeps the tiles a predicate selects (e.g. skip nodata) and reports their overhead', () => {
+    const plan = planTiles({ sceneWidthPx: 2000, sceneHeightPx: 2000, sceneGsdM: 0.3, modelGsdM: 0.3, tilePx: 512, maxObjectExtentM: 7 });
+    const left = tilesTouching(plan, (t) => t.windowModelPx.minXPx < 600);
+    expect(left.length).toBeGreaterThan(0);
+    expect(left.length).toBeLessThan(plan.tiles.length);
+    expect(left.every((t) => t.windowModelPx.minXPx < 600)).toBe(true);
+    expect(subsetOverheadRatio(plan.tiles)).toBeCloseTo(plan.overheadRatio, 12);
+  });
+
+  it('refuses an overlap that leaves no core, and non-positive sizes, with bad-argument', () => {
+    const base = { sceneWidthPx: 100, sceneHeightPx: 100, sceneGsdM: 0.3, modelGsdM: 0.3, tilePx: 64, maxObjectExtentM: 7 };
+    expect(() => planTiles({ ...base, overlapPx: 32 })).toThrow(SeamtallyError);
+    expect(() => planTiles({ ...base, maxObjectExtentM: 16 })).toThrow(/no core/); // 16 m / 2 / 0.3 → 27 + 8 = 35 px ≥ 32
+    expect(() => planTiles({ ...base, sceneGsdM: 0 })).toThrow(/sceneGsdM/);
+    expect(() => planTiles({ ...base, overlapPx: 2.5 })).toThrow(/whole number/);
+  });
+});

@@ -1,0 +1,18 @@
+// Child process for the streaming-memory check: writes one scene and prints its peak RSS (KiB) as JSON.
+import { mkdtempSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { makeSceneParams } from '../../../synth/scene-params.ts';
+import { synthToDir } from '../../../cli/synth.ts';
+
+const sizePx = Number(process.argv[2]);
+const gsdM = Number(process.argv[3] ?? 0.3);
+const dir = mkdtempSync(join(tmpdir(), 'seamtally-rss-'));
+try {
+  const p = makeSceneParams({ seed: 11, gsdM, widthPx: sizePx, name: 'rss' });
+  const t0 = performance.now();
+  const st = synthToDir(dir, p);
+  process.stdout.write(`${JSON.stringify({ sizePx, gsdM, maxRssKiB: process.resourceUsage().maxRSS, renderMs: st.renderMs, totalMs: performance.now() - t0, objects: st.truthCount, fileSizeB: st.cog.fileSizeB })}\n`);
+} finally {
+  rmSync(dir, { recursive: true, force: true });
+}

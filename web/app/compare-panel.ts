@@ -1,0 +1,43 @@
+// The "Then & now" tab: pick two dates; counts side by side with change, % change, exact test, weak flags; a chart.
+import type { AppState } from './state.ts';
+import type { DateTally } from './tally.ts';
+import { compareDates } from './compare.ts';
+import { h, setChildren, fmt } from './dom.ts';
+import { renderCountsChart } from './counts-chart.ts';
+
+/** Render the compare tab; `getTally` returns the latest tally (computed by the tally tab). */
+export function mountComparePanel(state: AppState, el: HTMLElement, getTally: () => DateTally[]): void {
+  const selA = h('select', { 'aria-label': 'Earlier date', onchange: () => render() });
+  const selB = h('select', { 'aria-label': 'Later date', onchange: () => render() });
+  const table = h('div', { dataset: { testid: 'compare' } });
+  const canvas = h('canvas.chart', { 'aria-label': 'Counts over dates' });
+  el.append(h('div.row', {}, 'From ', selA, ' to ', selB), table, h('div', {}, canvas),
+    h('p.muted', {}, 'p: two-sided exact conditional test for two Poisson counts (Przyborowski & Wilenski), with each date\'s imaged area as exposure. A small p says the change in density is unlikely to be chance alone; it says nothing about detector errors.'));
+
+  const render = () => {
+    const tally = getTally();
+    const dates = tally.map((t) => t.dateIso);
+    const keep = (sel: HTMLSelectElement, fallback: string | undefined) => {
+      const cur = dates.includes(sel.value) ? sel.value : fallback ?? '';
+      setChildren(sel, ...dates.map((d) => h('option', { value: d, selected: d === cur }, d)));
+      sel.value = cur;
+    };
+    keep(selA, dates[0]);
+    keep(selB, dates[dates.length - 1]);
+    renderCountsChart(canvas, tally);
+    const a = tally.find((t) => t.dateIso === selA.value);
+    const b = tally.find((t) => t.dateIso === selB.value);
+    if (!a || !b || a === b) { setChildren(table, h('p.muted', {}, 'Open scenes of two dates and run the detector to compare them.')); return; }
+    const rows = compareDates(a, b);
+    setChildren(table, h('table.grid', {},
+      h('thead', {}, h('tr', {}, ...['Area', 'Class', a.dateIso, b.dateIso, 'Change', '%', 'p', 'Strength'].map((t, i) => h(i < 2 || i === 7 ? 'th.l' : 'th', {}, t)))),
+      h('tbody', {}, ...rows.map((c) => h('tr', { dataset: { aoi: c.aoiName, cls: c.className, change: String(c.change) } },
+        h('td.l', {}, c.aoiName), h(`td.l.cls-${c.className}`, {}, c.className),
+        h('td', {}, String(c.before.count)), h('td', {}, String(c.after.count)),
+        h('td', {}, `${c.change > 0 ? '+' : ''}${c.change}`), h('td', {}, c.changePct === null ? '–' : `${c.changePct > 0 ? '+' : ''}${fmt(c.changePct, 0)}`),
+        h('td', {}, c.test ? (c.test.pValue < 0.001 ? '<0.001' : fmt(c.test.pValue, 3)) : '–'),
+        c.weakReasons.length ? h('td.l.weak', { title: c.weakReasons.join('; ') }, `weak: ${c.weakReasons.join('; ')}`) : h('td.l.lvl-reliable', {}, 'like for like'))))));
+  };
+  for (const ev of ['results-changed', 'threshold-changed', 'review-changed', 'aois-changed'] as const) state.events.on(ev, () => queueMicrotask(render));
+  render();
+}

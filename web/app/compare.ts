@@ -1,0 +1,50 @@
+// Comparing dates: per AOI and class, two dates' counts, change, % change, the exact conditional test with the
+// imaged areas as exposure, and why a comparison is weak (GSD, coverage or recall differ).
+import type { DateTally, TallyRow } from './tally.ts';
+import { comparePoissonCounts, type PoissonComparison } from '../core/poisson-stats.ts';
+
+/** Relative GSD difference above which a comparison is flagged (common practice, no source). */
+const GSD_RATIO_LIMIT = 1.25;
+/** Coverage difference (fraction) above which a comparison is flagged (common practice, no source). */
+const COVERAGE_DIFF_LIMIT = 0.1;
+/** Recall difference above which a comparison is flagged (common practice, no source). */
+const RECALL_DIFF_LIMIT = 0.05;
+
+export interface Comparison {
+  aoiName: string;
+  className: string;
+  before: TallyRow;
+  after: TallyRow;
+  change: number;
+  changePct: number | null;
+  test: PoissonComparison | null;
+  weakReasons: string[];
+}
+
+/** Compare every AOI × class between the tallies of two dates. */
+export function compareDates(a: DateTally, b: DateTally): Comparison[] {
+  const out: Comparison[] = [];
+  for (const before of a.rows) {
+    const after = b.rows.find((r) => r.aoiId === before.aoiId && r.className === before.className);
+    if (!after) continue;
+    const change = after.count - before.count;
+    const weakReasons: string[] = [];
+    const ratio = Math.max(before.gsdM, after.gsdM) / Math.min(before.gsdM, after.gsdM);
+    if (ratio > GSD_RATIO_LIMIT) weakReasons.push(`GSD differs (${before.gsdM.toFixed(2)} vs ${after.gsdM.toFixed(2)} m)`);
+    if (Math.abs(before.coverage - after.coverage) > COVERAGE_DIFF_LIMIT) {
+      weakReasons.push(`imaged share differs (${Math.round(before.coverage * 100)} vs ${Math.round(after.coverage * 100)} %)`);
+    }
+    const ra = before.caveat?.recallAtGsd ?? null, rb = after.caveat?.recallAtGsd ?? null;
+    if (ra !== null && rb !== null && Math.abs(ra - rb) > RECALL_DIFF_LIMIT) {
+      weakReasons.push(`model recall differs (${Math.round(ra * 100)} vs ${Math.round(rb * 100)} %)`);
+    } else if ((ra === null) !== (rb === null) || before.caveat?.level !== after.caveat?.level) {
+      weakReasons.push('resolution caveats differ');
+    }
+    const test = before.imagedAreaHa > 0 && after.imagedAreaHa > 0
+      ? comparePoissonCounts(after.count, after.imagedAreaHa, before.count, before.imagedAreaHa) : null;
+    if (!test) weakReasons.push('an area was not imaged on one date');
+    out.push({ aoiName: before.aoiName, className: before.className, before, after, change,
+      changePct: before.count > 0 ? (100 * change) / before.count : null, test, weakReasons });
+  }
+  return out;
+}

@@ -1,0 +1,45 @@
+// One date's detections as counted and exported: merged detector rows plus boxes the analyst added, with review states.
+import type { AppState, DateDetections, AddedBox } from './state.ts';
+import { reviewKey } from './state.ts';
+import { createDetectionTable, type DetectionTable, type ReviewState } from '../core/types.ts';
+import { concatDetectionTables } from '../core/seam-merge.ts';
+import { createTransform, parseEpsgName } from '../core/crs.ts';
+
+export interface ReviewedTable {
+  dateIso: string;
+  table: DetectionTable;
+  review: ReviewState[];
+  /** Rows ≥ detector rows are added boxes; their AddedBox ids. */
+  detectorRows: number;
+  addedIds: string[];
+}
+
+/** Added boxes of one date converted into the date's metric frame (sceneIdx 0, score 1). */
+function addedTable(frameCrs: string, boxes: AddedBox[]): DetectionTable {
+  const t = createDetectionTable(frameCrs, boxes.length);
+  const fwd = createTransform(4326, parseEpsgName(frameCrs));
+  boxes.forEach((b, i) => {
+    const c = fwd(b.centreLonLat);
+    const p = b.ringLonLat.map((q) => fwd(q));
+    const e1 = Math.hypot(p[1][0] - p[0][0], p[1][1] - p[0][1]);
+    const e2 = Math.hypot(p[2][0] - p[1][0], p[2][1] - p[1][1]);
+    const long = e1 >= e2 ? [p[0], p[1]] : [p[1], p[2]];
+    t.cxM[i] = c[0]; t.cyM[i] = c[1];
+    t.lengthM[i] = Math.max(e1, e2); t.widthM[i] = Math.min(e1, e2);
+    t.angleRad[i] = Math.atan2(long[1][1] - long[0][1], long[1][0] - long[0][0]);
+    t.score[i] = 1; t.classIdx[i] = b.classIdx; t.sceneIdx[i] = 0;
+  });
+  t.count = boxes.length;
+  return t;
+}
+
+/** The counted table of `d` under the state's review decisions and added boxes. */
+export function reviewedTable(state: AppState, d: DateDetections): ReviewedTable {
+  const added = state.added.filter((a) => a.dateIso === d.dateIso);
+  const base = d.table;
+  const table = added.length ? concatDetectionTables([base, addedTable(base.frameCrs, added)]) : base;
+  const review: ReviewState[] = new Array(table.count);
+  for (let i = 0; i < base.count; i++) review[i] = state.review.get(reviewKey(d.dateIso, d.keys[i])) ?? 'unreviewed';
+  for (let i = base.count; i < table.count; i++) review[i] = 'added';
+  return { dateIso: d.dateIso, table, review, detectorRows: base.count, addedIds: added.map((a) => a.id) };
+}

@@ -1,0 +1,49 @@
+// The "Imagery" block: drop or pick GeoTIFF/COG files, or give a URL; scenes listed by date (editable dates).
+import type { AppState } from './state.ts';
+import { scenesByDate } from './state.ts';
+import { h, setChildren, fmt } from './dom.ts';
+import { openScene, removeScene, setSceneDate, type SceneServices } from './scene-open.ts';
+import { pickFiles } from './download.ts';
+
+/** Render the imagery block into `el`; `dropTarget` (the map) also accepts dropped files. */
+export function mountImageryPanel(state: AppState, el: HTMLElement, dropTarget: HTMLElement, svc: SceneServices): void {
+  const openFiles = async (files: File[]) => { for (const f of files) await openScene(state, svc, { kind: 'file', file: f }); };
+  const zone = h('div.dropzone', { dataset: { testid: 'dropzone' } }, 'Drop GeoTIFF / COG files here or ',
+    h('button.small', { onclick: async () => openFiles(await pickFiles('.tif,.tiff,image/tiff', true)) }, 'choose files'));
+  const url = h('input', { type: 'url', placeholder: 'https://…/scene.tif', 'aria-label': 'Scene URL' });
+  const urlRow = h('div.row', {}, url, h('button.small', { onclick: async () => {
+    const v = url.value.trim();
+    if (!v) return;
+    if (await openScene(state, svc, { kind: 'url', url: v })) url.value = '';
+  } }, 'Open URL'));
+  const list = h('div', { dataset: { testid: 'scene-list' } });
+  el.append(zone, urlRow, list);
+
+  for (const target of [zone, dropTarget]) {
+    target.addEventListener('dragover', (e) => { e.preventDefault(); zone.classList.add('hot'); });
+    target.addEventListener('dragleave', () => zone.classList.remove('hot'));
+    target.addEventListener('drop', (e) => {
+      e.preventDefault();
+      zone.classList.remove('hot');
+      void openFiles([...(e.dataTransfer?.files ?? [])]);
+    });
+  }
+
+  const render = () => {
+    const groups = scenesByDate(state);
+    setChildren(list, ...groups.map((g) => h('div', { dataset: { date: g.dateIso } },
+      h('div.datehead', {}, g.dateIso, h('span.muted', {}, g.scenes.length > 1 ? ` · mosaic of ${g.scenes.length}` : '')),
+      h('ul.list', {}, ...g.scenes.map((s) => {
+        const date = h('input', { type: 'date', value: s.dateIso, 'aria-label': `Acquisition date of ${s.name}`,
+          onchange: () => setSceneDate(state, s.fingerprint, date.value) });
+        const info = s.info;
+        return h('li', { dataset: { scene: s.name } },
+          h('div.name', {}, s.name, s.input ? '' : h('span.weak', {}, ' (drop the file again to reopen it)')),
+          h('div.muted', {}, `${info.widthPx} × ${info.heightPx} px · ${fmt(info.georef.gsdM, 2)} m GSD · EPSG:${info.georef.epsg} · ${info.bandCount} band${info.bandCount > 1 ? 's' : ''}, ${info.significantBits}-bit`),
+          h('div.row', {}, date, h('button.small', { onclick: () => removeScene(state, svc, s.fingerprint) }, 'Remove')));
+      })))));
+    if (groups.length === 0) list.append(h('div.muted', {}, 'No imagery yet.'));
+  };
+  state.events.on('scenes-changed', render);
+  render();
+}

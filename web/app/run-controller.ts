@@ -1,0 +1,142 @@
+// Running detection: dispatch the planned tiles to the pool, keep each finished tile in IndexedDB, report progress,
+// merge per date in the tally worker (live every few seconds, and at the end); cancel, and resume what was kept.
+import type { AppState, DateDetections } from './state.ts';
+import type { DetectorPool } from './worker-pool.ts';
+import type { TallyApi, TileDetections } from '../../workers/contract.ts';
+import type { Remote } from 'comlink';
+import { planRun, tileKey, type RunPlan } from './run-plan.ts';
+import type { RunRecord } from './store.ts';
+import { toErrorInfo, fromErrorInfo } from '../core/errors.ts';
+import { detectionKeys } from './detection-keys.ts';
+
+const LIVE_MERGE_MS = 2000;
+
+export interface RunServices { pool: DetectorPool; tally: Remote<TallyApi> }
+
+/** Drives one run at a time. */
+export class RunController {
+  private abort: AbortController | null = null;
+  private tiles = new Map<string, TileDetections>();
+  private plan: RunPlan | null = null;
+  private lastMergeMs = 0;
+  private merging: Promise<void> | null = null;
+
+  constructor(private state: AppState, private svc: RunServices) {}
+
+  get running(): boolean { return this.abort !== null; }
+
+  private progress(patch: Partial<AppState['progress']>): void {
+    Object.assign(this.state.progress, patch);
+    this.state.events.emit('run-progress');
+  }
+
+  /** Start (or resume, when a kept run has the same key) a run of the current scenes, areas and model. */
+  async start(): Promise<void> {
+    if (this.abort) return;
+    const state = this.state;
+    const abort = new AbortController();
+    this.abort = abort;
+    this.progress({ status: 'running', tilesDone: 0, tilesTotal: 0, tilesPerS: 0, startedMs: Date.now(), message: 'Planning tiles…' });
+    try {
+      const plan = await planRun(state, this.svc.pool);
+      this.plan = plan;
+      let run = await state.store?.latestRun(plan.key);
+      this.tiles.clear();
+      if (run) {
+        for (const t of (await state.store?.tilesOf(run.id)) ?? []) this.tiles.set(t.tileKey, t.result);
+      } else {
+        run = { id: `run-${Date.now().toString(36)}`, key: plan.key, status: 'running', tilesTotal: plan.tilesTotal, startedMs: Date.now() };
+      }
+      const runRec: RunRecord = { ...run, status: 'running', tilesTotal: plan.tilesTotal };
+      await state.store?.putRun(runRec);
+      const todo = plan.tasks.filter((t) => !this.tiles.has(tileKey(t.sceneKey, t.tileIndex)));
+      const resumed = plan.tilesTotal - todo.length;
+      const t0 = performance.now();
+      let doneHere = 0;
+      const msg = `${plan.tilesTotal} tiles${plan.tileShare < 1 ? ` (${Math.round(plan.tileShare * 100)} % of the scenes: areas only)` : ''}` +
+        `${resumed ? `, ${resumed} kept from before` : ''} on ${this.svc.pool.size} worker${this.svc.pool.size > 1 ? 's' : ''}`;
+      this.progress({ tilesDone: resumed, tilesTotal: plan.tilesTotal, message: msg });
+      if (resumed) await this.mergeNow();
+      await this.svc.pool.runTasks(todo.map((t) => ({ ...t, runId: runRec.id })), {
+        done: async (task, result) => {
+          const key = tileKey(task.sceneKey, task.tileIndex);
+          this.tiles.set(key, result);
+          await state.store?.putTile({ runId: runRec.id, tileKey: key, result });
+          doneHere++;
+          const elapsedS = (performance.now() - t0) / 1000;
+          this.progress({ tilesDone: resumed + doneHere, tilesPerS: doneHere / Math.max(elapsedS, 1e-3) });
+          if (performance.now() - this.lastMergeMs > LIVE_MERGE_MS && !this.merging) void this.mergeNow();
+        },
+        failed: (task, error) => {
+          state.events.emit('notice', { level: 'error', text: `Tile ${task.tileIndex} of ${task.sceneKey.slice(0, 8)}: ${error.message}` });
+        },
+      }, abort.signal);
+      if (abort.signal.aborted) {
+        await state.store?.putRun({ ...runRec, status: 'cancelled' });
+        this.progress({ status: 'cancelled', message: `Stopped after ${this.state.progress.tilesDone} of ${plan.tilesTotal} tiles. Run again to resume.` });
+        await this.mergeNow();
+        return;
+      }
+      this.progress({ status: 'merging', message: 'Merging across tiles and scenes…' });
+      await this.merging;
+      await this.mergeNow();
+      await state.store?.putRun({ ...runRec, status: 'done' });
+      const s = (performance.now() - t0) / 1000;
+      this.progress({ status: 'done', message: `Done: ${plan.tilesTotal} tiles, ${doneHere} run now in ${s.toFixed(1)} s.` });
+    } catch (err) {
+      this.progress({ status: 'failed', message: '' });
+      state.events.emit('notice', { level: 'error', text: toErrorInfo(err).message });
+    } finally {
+      this.abort = null;
+    }
+  }
+
+  /** Stop dispatching tiles; finished tiles stay kept, so the next start resumes. */
+  cancel(): void { this.abort?.abort(); }
+
+  /** Merge the finished tiles of every date (in a fixed tile order, so results do not depend on worker timing). */
+  async mergeNow(): Promise<void> {
+    const plan = this.plan;
+    if (!plan) return;
+    const job = (async () => {
+      const out: DateDetections[] = [];
+      for (const d of plan.dates) {
+        const tables = [];
+        for (const ps of d.scenes) {
+          for (const idx of ps.tileIndices) {
+            const t = this.tiles.get(tileKey(ps.scene.fingerprint, idx));
+            if (t && t.table.count > 0) tables.push(t.table);
+          }
+        }
+        const r = await this.svc.tally.mergeDate(tables, {});
+        if (!r.ok) throw fromErrorInfo(r.error);
+        const table = r.value.frameCrs ? r.value : { ...r.value, frameCrs: `EPSG:${d.frameEpsg}` };
+        out.push({ dateIso: d.dateIso, table, keys: detectionKeys(table) });
+      }
+      this.state.results = out;
+      this.state.events.emit('results-changed');
+    })();
+    this.merging = job;
+    this.lastMergeMs = performance.now();
+    try { await job; } finally { if (this.merging === job) this.merging = null; }
+  }
+
+  /** After a reload: if the last kept run matches the current setup, resume it (or show its results when done). */
+  async restore(): Promise<void> {
+    const last = await this.state.store?.lastRun();
+    if (!last || !this.state.model || this.state.scenes.length === 0) return;
+    let plan: RunPlan;
+    try { plan = await planRun(this.state, this.svc.pool); } catch { return; }
+    if (plan.key !== last.key) return;
+    if (last.status === 'done') {
+      this.plan = plan;
+      this.tiles.clear();
+      for (const t of (await this.state.store?.tilesOf(last.id)) ?? []) this.tiles.set(t.tileKey, t.result);
+      await this.mergeNow();
+      this.progress({ status: 'done', tilesDone: plan.tilesTotal, tilesTotal: plan.tilesTotal, message: 'Results restored from the kept run.' });
+    } else if (last.status === 'running') {
+      this.state.events.emit('notice', { level: 'info', text: 'Resuming the run that was interrupted.' });
+      await this.start();
+    }
+  }
+}

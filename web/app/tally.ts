@@ -1,0 +1,74 @@
+// The tally: per date and AOI × class, counts under the rule (core counts.ts) at the slider's score, with area,
+// coverage (core coverage.ts), GSD, the resolution caveat per class and the 95 % Garwood interval.
+import type { AppState, AoiRecord, SceneEntry } from './state.ts';
+import { scenesByDate } from './state.ts';
+import { reviewedTable } from './date-table.ts';
+import { countPerAoi, type CountAoi, type CountRow } from '../core/counts.ts';
+import { reprojectAoi } from '../core/aoi.ts';
+import { aoiCoverage, frameToScenePxMapping, type CoverageMask } from '../core/coverage.ts';
+import { multiPolygonAreaM2 } from '../core/geodesic-area.ts';
+import { parseEpsgName } from '../core/crs.ts';
+import { garwoodInterval, type Interval } from '../core/poisson-stats.ts';
+import { resolutionCaveat, upsamplingNote, type ResolutionCaveat } from '../core/caveats.ts';
+
+export interface TallyRow extends CountRow { interval: Interval; caveat: ResolutionCaveat | null }
+
+export interface DateTally {
+  dateIso: string;
+  gsdM: number;
+  sceneNames: string[];
+  rows: TallyRow[];
+  caveats: ResolutionCaveat[];
+  upsampling: string | null;
+}
+
+const aoiCache = new WeakMap<AoiRecord, Map<string, CountAoi>>();
+
+function masksOf(scenes: SceneEntry[], frameEpsg: number): CoverageMask[] {
+  return scenes.map((s) => ({
+    frameToScenePx: frameToScenePxMapping(s.info.georef.geoTransform, s.info.georef.epsg, frameEpsg),
+    sceneWidthPx: s.info.widthPx, sceneHeightPx: s.info.heightPx, ...s.description.mask,
+  }));
+}
+
+function countAoi(aoi: AoiRecord, dateIso: string, frameEpsg: number, scenes: SceneEntry[]): CountAoi {
+  let m = aoiCache.get(aoi);
+  if (!m) { m = new Map(); aoiCache.set(aoi, m); }
+  const key = `${dateIso}|${frameEpsg}|${scenes.map((s) => s.fingerprint).join(',')}`;
+  let c = m.get(key);
+  if (!c) {
+    const inFrame = reprojectAoi(aoi, frameEpsg);
+    c = { aoi: inFrame, areaM2: multiPolygonAreaM2(aoi.polygonsLonLat), coverage: aoiCoverage(inFrame.polygons, masksOf(scenes, frameEpsg)).fraction };
+    m.set(key, c);
+  }
+  return c;
+}
+
+/** Caveats for every class at a GSD, from the model's sidecar (objects' critical dimension, recall-vs-GSD curve). */
+export function caveatsAt(state: AppState, gsdM: number): ResolutionCaveat[] {
+  const sc = state.model?.sidecar;
+  if (!sc) return [];
+  return sc.classes.flatMap((className) => {
+    const dim = sc.objects?.[className]?.criticalDimM;
+    return dim ? [resolutionCaveat({ className, gsdM, criticalDimM: dim, quality: sc.quality })] : [];
+  });
+}
+
+/** The whole tally for the current results, threshold, review and areas. */
+export function computeTally(state: AppState): DateTally[] {
+  const model = state.model;
+  if (!model) return [];
+  const byDate = new Map(scenesByDate(state).map((g) => [g.dateIso, g.scenes]));
+  return state.results.map((d) => {
+    const scenes = byDate.get(d.dateIso) ?? [];
+    const gsdM = Math.max(...scenes.map((s) => s.info.georef.gsdM));
+    const frameEpsg = parseEpsgName(d.table.frameCrs);
+    const rt = reviewedTable(state, d);
+    const aois = state.aois.map((a) => countAoi(a, d.dateIso, frameEpsg, scenes));
+    const counts = countPerAoi({ detections: rt.table, classes: model.sidecar.classes, review: rt.review, aois, date: d.dateIso, gsdM },
+      { minScore: state.minScore });
+    const caveats = caveatsAt(state, gsdM);
+    const rows = counts.map((r) => ({ ...r, interval: garwoodInterval(r.count), caveat: caveats.find((c) => c.className === r.className) ?? null }));
+    return { dateIso: d.dateIso, gsdM, sceneNames: scenes.map((s) => s.name), rows, caveats, upsampling: upsamplingNote(gsdM, model.sidecar.inputGsdM) };
+  });
+}

@@ -1,0 +1,84 @@
+// Fast decoding of one file tile (or group of strips) of a geotiff.js image into band-separated typed arrays.
+// geotiff's readRasters copies every sample through a DataView call; for the common layouts (uncompressed, LZW,
+// DEFLATE; 8/16/32-bit integer or float samples; little-endian or 8-bit) we decode the block's bytes with geotiff's
+// own decoder and de-interleave with typed arrays. Everything else goes through readRasters/readRGB.
+import { getDecoder, type GeoTIFFImage } from 'geotiff';
+import { allocSamples, type SampleArray, type SampleDtype } from '../core/scene-source.ts';
+
+type Decoder = Awaited<ReturnType<typeof getDecoder>>;
+const FAST_COMPRESSIONS = new Set([1, 5, 8, 32946]);
+
+/** A reusable fast-path decoder for one image, or null when the image needs geotiff's general path. */
+export interface FastBlockReader {
+  read(x0: number, y0: number, x1: number, y1: number, signal?: AbortSignal): Promise<SampleArray[]>;
+}
+
+export async function fastBlockReader(img: GeoTIFFImage, dtype: SampleDtype, bandCount: number): Promise<FastBlockReader | null> {
+  const fd = img.getFileDirectory();
+  const compression = Number(fd.getValue('Compression') ?? 1);
+  const photometric = fd.hasTag('PhotometricInterpretation') ? Number(fd.getValue('PhotometricInterpretation')) : 1;
+  const bits = img.getBitsPerSample(0);
+  const spp = img.getSamplesPerPixel();
+  for (let s = 1; s < spp; s++) if (img.getBitsPerSample(s) !== bits || img.getSampleFormat(s) !== img.getSampleFormat(0)) return null;
+  if (!FAST_COMPRESSIONS.has(compression) || photometric === 6 || photometric === 3 || bits % 8 !== 0) return null;
+  if (bits > 8 && !img.littleEndian) return null;
+  const tiled = fd.hasTag('TileOffsets');
+  const planar = Number(fd.getValue('PlanarConfiguration') ?? 1);
+  const decoder: Decoder = await getDecoder(compression, {
+    tileWidth: tiled ? img.getTileWidth() : img.getWidth(),
+    tileHeight: img.getTileHeight(),
+    planarConfiguration: planar,
+    bitsPerSample: fd.getValue('BitsPerSample') as number[],
+    predictor: Number((await fd.loadValue('Predictor')) ?? 1),
+  } as ConstructorParameters<typeof import('geotiff').BaseDecoder>[0]);
+  const tw = img.getTileWidth();
+  const th = img.getTileHeight();
+  const view = (buf: ArrayBufferLike) => {
+    switch (dtype) {
+      case 'uint8': return new Uint8Array(buf);
+      case 'int8': return new Int8Array(buf);
+      case 'uint16': return new Uint16Array(buf);
+      case 'int16': return new Int16Array(buf);
+      case 'uint32': return new Uint32Array(buf);
+      case 'int32': return new Int32Array(buf);
+      case 'float32': return new Float32Array(buf);
+      case 'float64': return new Float64Array(buf);
+    }
+  };
+  return {
+    async read(x0, y0, x1, y1, signal) {
+      const w = x1 - x0, h = y1 - y0;
+      const out = Array.from({ length: bandCount }, () => allocSamples(dtype, w * h));
+      // file blocks (tiles, or strips) covering the requested block; for tiles exactly one
+      const tx0 = Math.floor(x0 / tw), tx1 = Math.ceil(x1 / tw), ty0 = Math.floor(y0 / th), ty1 = Math.ceil(y1 / th);
+      const jobs: Promise<void>[] = [];
+      for (let ty = ty0; ty < ty1; ty++) {
+        for (let tx = tx0; tx < tx1; tx++) {
+          const samples = planar === 2 ? Array.from({ length: bandCount }, (_, b) => b) : [0];
+          for (const sample of samples) {
+            jobs.push(img.getTileOrStrip(tx, ty, sample, decoder, signal).then(({ data }) => {
+              const src = view(data);
+              const bx0 = tx * tw, by0 = ty * th;
+              const rowLen = tiled ? tw : img.getWidth();
+              const cx0 = Math.max(x0, bx0), cx1 = Math.min(x1, bx0 + rowLen);
+              const cy0 = Math.max(y0, by0), cy1 = Math.min(y1, by0 + img.getBlockHeight(ty));
+              const stride = planar === 2 ? 1 : spp;
+              const bandsHere = planar === 2 ? [sample] : out.map((_, b) => b);
+              for (const b of bandsHere) {
+                const dst = out[b];
+                const off = planar === 2 ? 0 : b;
+                for (let y = cy0; y < cy1; y++) {
+                  let s = ((y - by0) * rowLen + (cx0 - bx0)) * stride + off;
+                  let d = (y - y0) * w + (cx0 - x0);
+                  for (let x = cx0; x < cx1; x++, s += stride) dst[d++] = src[s];
+                }
+              }
+            }));
+          }
+        }
+      }
+      await Promise.all(jobs);
+      return out;
+    },
+  };
+}
