@@ -6,6 +6,9 @@ const env = { ...process.env, ONNXRUNTIME_NODE_INSTALL: 'skip' };
 const has = (cmd) => {
   try { execSync(`command -v ${cmd}`, { stdio: 'ignore', shell: '/bin/bash' }); return true; } catch { return false; }
 };
+const hasPy = (mod) => {
+  try { execSync(`/usr/bin/python3 -c 'import ${mod}'`, { stdio: 'ignore' }); return true; } catch { return false; }
+};
 const run = (cmd) => { console.error(`[setup] ${cmd}`); execSync(cmd, { stdio: 'inherit', env, shell: '/bin/bash' }); };
 
 if (!existsSync('node_modules/.package-lock.json')) run('npm ci --no-audit --no-fund');
@@ -14,6 +17,7 @@ const wantTools = process.argv.includes('--tools') || process.env.npm_lifecycle_
 const missing = [];
 if (!has('chromium')) missing.push('chromium');
 if (wantTools && !has('gdalinfo')) missing.push('gdal-bin');
+if (wantTools && !hasPy('numpy')) missing.push('python3-numpy');
 if (missing.length) {
   const isRoot = process.getuid?.() === 0;
   const sudo = isRoot ? '' : (has('sudo') ? 'sudo ' : null);
