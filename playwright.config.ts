@@ -10,6 +10,8 @@ export default defineConfig({
   testDir: 'test/browser',
   testMatch: '**/*.spec.ts',
   timeout: 300_000,
+  // Artifacts go below test-results/, so the screenshots the specs write into test-results/ survive the next run.
+  outputDir: 'test-results/playwright-artifacts',
   workers: 1,
   reporter: [['list'], ['json']],
   use: {
@@ -20,9 +22,10 @@ export default defineConfig({
         '--disable-background-networking', '--disable-component-update', '--disable-sync'],
     },
     screenshot: 'only-on-failure',
+    viewport: { width: 1440, height: 900 },
   },
   webServer: {
-    command: 'npx vite --port 5179 --strictPort --host 127.0.0.1',
+    command: 'npx vite --port 5179 --strictPort --host 127.0.0.1 --bypass-lock',
     url: 'http://127.0.0.1:5179/',
     reuseExistingServer: false,
     timeout: 120_000,

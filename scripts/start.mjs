@@ -13,7 +13,7 @@ if (!existsSync(`${demoDir}/manifest.json`)) {
   }
 }
 
-const vite = spawn('npx', ['vite', '--port', port, '--host', '127.0.0.1'], { stdio: ['inherit', 'pipe', 'inherit'] });
+const vite = spawn('npx', ['vite', '--port', port, '--host', '127.0.0.1', '--bypass-lock'], { stdio: ['inherit', 'pipe', 'inherit'] });
 let announced = false;
 vite.stdout.on('data', (chunk) => {
   process.stdout.write(chunk);

@@ -1,5 +1,5 @@
 // Helper that block generators draw with, in block-local metres (u east-ish, v north-ish), collecting world primitives.
-import { Layer, circle, poly, prismShadow, rectCorners, slopeLight, toWorld, type Prim } from './prims.ts';
+import { Layer, circle, convexHull, poly, prismShadow, rectCorners, shadowOffset, slopeLight, toWorld, type Prim } from './prims.ts';
 import { MATERIALS, jitter, scaleRefl, type Refl } from './spectra.ts';
 import type { BlockContent, BlockCtx, TruthKind } from './objects.ts';
 import { vehicle } from './vehicles.ts';
@@ -35,13 +35,18 @@ export class BlockBuilder {
   tree(u: number, v: number, rM: number, heightM: number): void {
     const [x, y] = toWorld(this.ctx.frame, u, v);
     const crown = jitter(this.rng.chance(0.3) ? MATERIALS.treeDark : MATERIALS.tree, this.rng, 0.15);
-    const len = heightM / Math.tan((this.ctx.sunElevationDeg * Math.PI) / 180);
+    // Crown shadow: the crown (from ~35 % to ~90 % of the height) swept away from the sun, plus the trunk's line.
+    const [dx, dy] = shadowOffset(heightM, this.ctx.sunAzimuthDeg, this.ctx.sunElevationDeg);
+    const disc: number[] = [];
+    for (const f of [0.35, 0.9]) {
+      for (let k = 0; k < 12; k++) {
+        const a = (k / 12) * 2 * Math.PI;
+        disc.push(x + dx * f + Math.cos(a) * rM * 0.95, y + dy * f + Math.sin(a) * rM * 0.95);
+      }
+    }
+    this.out.prims.push(poly(Layer.tallShadow, convexHull(disc), null));
+    this.out.prims.push(poly(Layer.tallShadow, prismShadow(rectCorners(x, y, 0.5, 0.5, 0), heightM * 0.4, this.ctx.sunAzimuthDeg, this.ctx.sunElevationDeg), null));
     const az = (this.ctx.sunAzimuthDeg * Math.PI) / 180;
-    // Crown shadow: the crown's disc displaced away from the sun by its height, as a tall shadow mask.
-    const sx = x - Math.sin(az) * len * 0.75;
-    const sy = y - Math.cos(az) * len * 0.75;
-    this.out.prims.push(circle(Layer.tallShadow, sx, sy, rM * 0.95, null));
-    this.out.prims.push(poly(Layer.tallShadow, prismShadow(rectCorners(x, y, 0.5, 0.5, 0), heightM * 0.6, this.ctx.sunAzimuthDeg, this.ctx.sunElevationDeg), null));
     this.out.prims.push(circle(Layer.tree, x, y, rM, crown, { tex: 0.35, grain: 0.25 }));
     // A lit cap on the sun side gives the crown volume.
     const cx = x + Math.sin(az) * rM * 0.25;

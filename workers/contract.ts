@@ -1,7 +1,7 @@
 // The typed page–worker contract: every call the page makes into a worker, with plain-data arguments and results.
 // Worker APIs `satisfies` these interfaces; the page wraps workers with comlink as Remote<...> of them.
 import type { Result } from '../web/core/errors.ts';
-import type { DetectionTable } from '../web/core/types.ts';
+import type { DetectionTable, GeoTransform, MapXY } from '../web/core/types.ts';
 import type { SceneInfo } from '../web/core/scene-source.ts';
 import type { TilePlan } from '../web/core/tiling.ts';
 import type { BandSelection, Stretch } from '../web/core/radiometry.ts';
@@ -98,8 +98,18 @@ export interface DetectorApi {
   forgetScene(sceneKey: string): Promise<void>;
 }
 
-/** Merging runs off the main thread in the tally worker. */
+/** One scene's valid-pixel mask with what the worker needs to map frame metres into it (core CoverageMask). */
+export interface CoverageMaskSpec extends ValidMask {
+  geoTransform: GeoTransform;
+  sceneEpsg: number;
+  sceneWidthPx: number;
+  sceneHeightPx: number;
+}
+
+/** Merging and coverage run off the main thread in the tally worker. */
 export interface TallyApi {
+  /** Imaged fraction of an AOI (rings in the frame `frameEpsg`) over the masks of one date's scenes (core aoiCoverage). */
+  coverage(aoiPolygons: MapXY[][][], frameEpsg: number, masks: CoverageMaskSpec[]): Promise<Result<number>>;
   /** Merge tile tables of one date (core-cut already) with cross-tile / cross-scene NMS in ground metres. */
   mergeDate(tables: DetectionTable[], opts: { iouThreshold?: number }): Promise<Result<DetectionTable>>;
 }

@@ -40,5 +40,38 @@ export async function renderPreview(source: SceneSource, maxLongSidePx: number):
     for (let i = 0; i < n; i++) rgba[i * 4 + c] = (src[i] - lo) * k;
   }
   for (let i = 0; i < n; i++) rgba[i * 4 + 3] = valid[i] ? 255 : 0;
-  return { widthPx: win.widthPx, heightPx: win.heightPx, rgba, level };
+  const gt = source.info.georef.geoTransform;
+  if (gt[2] === 0 && gt[4] === 0) return { widthPx: win.widthPx, heightPx: win.heightPx, rgba, level };
+  return { ...northUp(rgba, win.widthPx, win.heightPx, gt, source.info.widthPx / win.widthPx), level };
+}
+
+/**
+ * Resample a rotated scene's picture onto a north-up grid over its map bounding box (nearest neighbour), so it can
+ * be drawn as an axis-aligned image with the extent pixelBoxToMapBox gives.
+ */
+function northUp(rgba: Uint8ClampedArray, w: number, h: number, gt: readonly number[], scenePxPerPreviewPx: number) {
+  const corners = [[0, 0], [w, 0], [w, h], [0, h]].map(([c, r]) => {
+    const x = c * scenePxPerPreviewPx, y = r * scenePxPerPreviewPx;
+    return [gt[0] + x * gt[1] + y * gt[2], gt[3] + x * gt[4] + y * gt[5]];
+  });
+  const minX = Math.min(...corners.map((p) => p[0])), maxX = Math.max(...corners.map((p) => p[0]));
+  const minY = Math.min(...corners.map((p) => p[1])), maxY = Math.max(...corners.map((p) => p[1]));
+  const side = Math.max(w, h);
+  const outW = Math.max(1, Math.round((side * (maxX - minX)) / Math.max(maxX - minX, maxY - minY)));
+  const outH = Math.max(1, Math.round((side * (maxY - minY)) / Math.max(maxX - minX, maxY - minY)));
+  const det = gt[1] * gt[5] - gt[2] * gt[4];
+  const out = new Uint8ClampedArray(outW * outH * 4);
+  for (let j = 0; j < outH; j++) {
+    const y = maxY - ((j + 0.5) * (maxY - minY)) / outH;
+    for (let i = 0; i < outW; i++) {
+      const x = minX + ((i + 0.5) * (maxX - minX)) / outW;
+      const dx = x - gt[0], dy = y - gt[3];
+      const col = Math.floor(((gt[5] * dx - gt[2] * dy) / det) / scenePxPerPreviewPx);
+      const row = Math.floor(((-gt[4] * dx + gt[1] * dy) / det) / scenePxPerPreviewPx);
+      if (col < 0 || row < 0 || col >= w || row >= h) continue;
+      const s = (row * w + col) * 4, d = (j * outW + i) * 4;
+      out[d] = rgba[s]; out[d + 1] = rgba[s + 1]; out[d + 2] = rgba[s + 2]; out[d + 3] = rgba[s + 3];
+    }
+  }
+  return { widthPx: outW, heightPx: outH, rgba: out };
 }

@@ -1,12 +1,21 @@
-// Tally worker entry (thin): merges the tile detections of one date off the main thread with the core's seam merge.
+// Tally worker entry (thin): merges a date's tile detections (core seam merge) and measures AOI coverage off the main thread.
 import { expose, transfer } from 'comlink';
 import { mergeDetectionTables } from '../web/core/seam-merge.ts';
 import { toErrorInfo } from '../web/core/errors.ts';
-import type { DetectionTable } from '../web/core/types.ts';
-import type { TallyApi } from './contract.ts';
+import type { DetectionTable, MapXY } from '../web/core/types.ts';
+import { aoiCoverage, frameToScenePxMapping } from '../web/core/coverage.ts';
+import type { CoverageMaskSpec, TallyApi } from './contract.ts';
 import { tableBuffers } from './transfer.ts';
 
 const api = {
+  async coverage(aoiPolygons: MapXY[][][], frameEpsg: number, masks: CoverageMaskSpec[]) {
+    try {
+      const cm = masks.map((m) => ({ ...m, frameToScenePx: frameToScenePxMapping(m.geoTransform, m.sceneEpsg, frameEpsg) }));
+      return { ok: true as const, value: aoiCoverage(aoiPolygons, cm).fraction };
+    } catch (err) {
+      return { ok: false as const, error: toErrorInfo(err) };
+    }
+  },
   async mergeDate(tables: DetectionTable[], opts: { iouThreshold?: number }) {
     try {
       const merged = mergeDetectionTables(tables, { iouThreshold: opts.iouThreshold });

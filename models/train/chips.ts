@@ -4,7 +4,7 @@
 // that train.py reads: shard_<tag>.u8 (N × px × px × 3) + shard_<tag>.json {n, px, objects: [[i, class, cx, cy,
 // length, width, angle, visible], …]} (angle = length-axis direction in the pixel frame, y down).
 // Usage: npx tsx models/train/chips.ts --scenes DIR --out DIR [--px 320] [--step 240] [--gsd 0.3]
-import { readFileSync, readdirSync, statSync, writeFileSync, mkdirSync, renameSync } from 'node:fs';
+import { existsSync, readFileSync, readdirSync, statSync, writeFileSync, mkdirSync, renameSync } from 'node:fs';
 import { join } from 'node:path';
 import { openGeoTiffPath } from '../../web/io/geotiff-source.ts';
 import { normaliseInPlace } from '../../web/core/radiometry.ts';
@@ -108,6 +108,7 @@ async function main(): Promise<void> {
   for (const name of readdirSync(scenes).filter((n) => n.endsWith('.tif')).sort()) {
     const base = name.slice(0, -4);
     const truth = join(scenes, `${base}.truth.geojson`);
+    if (existsSync(join(out, `shard_${base}.json`)) || !existsSync(truth)) continue;
     const { chips, objects } = await chipsOfScene(join(scenes, name), truth, px, step, gsd);
     if (chips.length === 0) continue;
     const buf = new Uint8Array(chips.length * 3 * px * px);

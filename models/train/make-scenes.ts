@@ -46,7 +46,7 @@ export function sceneSet(set: 'train' | 'val' | 'eval', count: number): SceneOpt
         out.push({
           name: `eval-${String(out.length).padStart(2, '0')}-g${g}`, seed, gsdM: g, widthPx: sidePx(g),
           scenario: k % 2 === 0 ? 'business-park' : 'town', date: dateIn(r, [10, 11, 12, 1, 2]),
-          bands: LAYOUTS[(out.length + k) % 4], bits: BITS[(out.length * 3 + k) % 4],
+          bands: LAYOUTS[out.length % 4], bits: BITS[(out.length * 3 + 1) % 4],
           psfSigmaPx: 0.35 + 0.4 * r(), hazeFraction: 0.02 + 0.1 * r(), readNoiseE: 10 + 30 * r(), occupancy: 0.3 + 0.6 * r(),
         });
       }

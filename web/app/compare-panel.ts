@@ -5,6 +5,12 @@ import { compareDates } from './compare.ts';
 import { h, setChildren, fmt } from './dom.ts';
 import { renderCountsChart } from './counts-chart.ts';
 
+/** One line per distinct reason why comparisons are weak (the table cells carry them as tooltips). */
+function weakNotes(rows: ReturnType<typeof compareDates>): HTMLElement {
+  const reasons = [...new Set(rows.flatMap((c) => c.weakReasons))];
+  return h('div.weak', {}, ...reasons.map((r) => h('div', {}, `Weak comparison: ${r}.`)));
+}
+
 /** Render the compare tab; `getTally` returns the latest tally (computed by the tally tab). */
 export function mountComparePanel(state: AppState, el: HTMLElement, getTally: () => DateTally[]): void {
   const selA = h('select', { 'aria-label': 'Earlier date', onchange: () => render() });
@@ -36,8 +42,9 @@ export function mountComparePanel(state: AppState, el: HTMLElement, getTally: ()
         h('td', {}, String(c.before.count)), h('td', {}, String(c.after.count)),
         h('td', {}, `${c.change > 0 ? '+' : ''}${c.change}`), h('td', {}, c.changePct === null ? '–' : `${c.changePct > 0 ? '+' : ''}${fmt(c.changePct, 0)}`),
         h('td', {}, c.test ? (c.test.pValue < 0.001 ? '<0.001' : fmt(c.test.pValue, 3)) : '–'),
-        c.weakReasons.length ? h('td.l.weak', { title: c.weakReasons.join('; ') }, `weak: ${c.weakReasons.join('; ')}`) : h('td.l.lvl-reliable', {}, 'like for like'))))));
+        c.weakReasons.length ? h('td.l.weak', { title: c.weakReasons.join('; ') }, 'weak ⓘ') : h('td.l.lvl-reliable', {}, 'like for like'))))),
+      weakNotes(rows));
   };
-  for (const ev of ['results-changed', 'threshold-changed', 'review-changed', 'aois-changed'] as const) state.events.on(ev, () => queueMicrotask(render));
+  for (const ev of ['results-changed', 'threshold-changed', 'review-changed', 'aois-changed', 'coverage-changed'] as const) state.events.on(ev, () => queueMicrotask(render));
   render();
 }

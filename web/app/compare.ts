@@ -42,7 +42,8 @@ export function compareDates(a: DateTally, b: DateTally): Comparison[] {
     }
     const test = before.imagedAreaHa > 0 && after.imagedAreaHa > 0
       ? comparePoissonCounts(after.count, after.imagedAreaHa, before.count, before.imagedAreaHa) : null;
-    if (!test) weakReasons.push('an area was not imaged on one date');
+    const pending = Number.isNaN(before.coverage) || Number.isNaN(after.coverage);
+    if (!test) weakReasons.push(pending ? 'imaged share still being measured' : 'the area was not imaged on one date');
     out.push({ aoiName: before.aoiName, className: before.className, before, after, change,
       changePct: before.count > 0 ? (100 * change) / before.count : null, test, weakReasons });
   }

@@ -5,6 +5,10 @@ export interface PageConfig {
   manifestUrl: string;
   /** Sidecar URL of the model to load instead of the shipped one (`?model=`), or null. */
   modelUrl: string | null;
+  /** Pause after each finished tile, ms (`?pace=`; default 0): slows a run down for demonstrations and tests. */
+  paceMs: number;
+  /** Worker count (`?workers=`), or null for navigator.hardwareConcurrency. */
+  workers: number | null;
 }
 
 /** Same-origin paths only: anything else is ignored (nothing is fetched from elsewhere without the analyst asking). */
@@ -14,5 +18,11 @@ function localPath(v: string | null): string | null {
 
 export function readPageConfig(loc: Location): PageConfig {
   const q = new URLSearchParams(loc.search);
-  return { manifestUrl: localPath(q.get('manifest')) ?? '/demo/manifest.json', modelUrl: localPath(q.get('model')) };
+  const num = (k: string) => { const v = Number(q.get(k)); return q.has(k) && Number.isFinite(v) && v >= 0 ? v : null; };
+  return {
+    manifestUrl: localPath(q.get('manifest')) ?? '/demo/manifest.json',
+    modelUrl: localPath(q.get('model')),
+    paceMs: Math.min(num('pace') ?? 0, 10_000),
+    workers: num('workers') !== null ? Math.max(1, Math.min(32, Math.floor(num('workers')!))) : null,
+  };
 }

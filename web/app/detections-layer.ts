@@ -4,13 +4,15 @@ import VectorSource from 'ol/source/Vector.js';
 import Feature from 'ol/Feature.js';
 import Polygon from 'ol/geom/Polygon.js';
 import { Style, Stroke, Fill } from 'ol/style.js';
-import { transform } from 'ol/proj.js';
 import type { MapView } from './map-view.ts';
 import type { AppState } from './state.ts';
 import { reviewedTable } from './date-table.ts';
-import { boxRingLonLat } from '../core/export-geojson.ts';
+import { boxCornersInto } from '../core/oriented-box.ts';
 import { createTransform, parseEpsgName } from '../core/crs.ts';
 import { countsUnderRule } from '../core/counts.ts';
+
+/** Rows turned into features before yielding the main thread. */
+const CHUNK_ROWS = 400;
 
 const classColours = ['#4fd1c5', '#f27f5b', '#b39ddb', '#9ccc65', '#ffd54f', '#64b5f6'];
 
@@ -18,14 +20,15 @@ const classColours = ['#4fd1c5', '#f27f5b', '#b39ddb', '#9ccc65', '#ffd54f', '#6
 export function classColour(classIdx: number): string { return classColours[classIdx % classColours.length]; }
 
 export class DetectionsLayer {
-  private source = new VectorSource();
+  // No spatial index: features are replaced wholesale after each merge, and bulk R-tree loading is the slow part.
+  private source = new VectorSource({ useSpatialIndex: false });
   private styles = new Map<string, Style>();
   constructor(private view: MapView, private state: AppState) {
     const layer = new VectorLayer({ source: this.source, zIndex: 20, style: (f) => this.styleOf(f as Feature) });
     view.overlays.getLayers().push(layer);
     const refresh = () => layer.changed();
     state.events.on('results-changed', () => this.rebuild());
-    state.events.on('review-changed', () => this.rebuild());
+    state.events.on('review-changed', () => this.refreshReview());
     state.events.on('threshold-changed', refresh);
     state.events.on('selection-changed', refresh);
     state.events.on('shown-date-changed', refresh);
@@ -51,23 +54,53 @@ export class DetectionsLayer {
     return st;
   }
 
-  /** Rebuild all features from the state's results (after a merge or a review change). */
-  rebuild(): void {
-    const viewCode = this.view.projectionCode();
+  private generation = 0;
+
+  /**
+   * Rebuild all features from the state's results (after a merge), in chunks of CHUNK_ROWS rows between which the
+   * page gets the main thread back; a newer rebuild supersedes an unfinished one.
+   */
+  rebuild(): void { void this.rebuildChunked(); }
+
+  private async rebuildChunked(): Promise<void> {
+    const gen = ++this.generation;
+    const viewEpsg = parseEpsgName(this.view.projectionCode());
     const features: Feature[] = [];
+    const xy = new Float64Array(8);
+    let sinceYield = 0;
     for (const d of this.state.results) {
       const rt = reviewedTable(this.state, d);
       const t = rt.table;
-      const toLonLat = createTransform(parseEpsgName(t.frameCrs), 4326);
+      // Corners in the frame, then one hop into the view CRS (none when the view is in the frame, the usual case).
+      const toView = createTransform(parseEpsgName(t.frameCrs), viewEpsg);
       for (let i = 0; i < t.count; i++) {
-        const ring = boxRingLonLat(t.cxM[i], t.cyM[i], t.lengthM[i], t.widthM[i], t.angleRad[i], toLonLat, 8)
-          .map((p) => transform(p, 'EPSG:4326', viewCode));
-        const f = new Feature({ geometry: new Polygon([ring]), date: d.dateIso, row: i, cls: t.classIdx[i], score: t.score[i], review: rt.review[i] });
+        boxCornersInto(t.cxM[i], t.cyM[i], t.lengthM[i], t.widthM[i], t.angleRad[i], xy);
+        const flat: number[] = [];
+        for (const k of [0, 2, 4, 6, 0]) { const p = toView([xy[k], xy[k + 1]]); flat.push(p[0], p[1]); }
+        const f = new Feature(new Polygon(flat, 'XY', [10]));
+        f.setProperties({ date: d.dateIso, row: i, cls: t.classIdx[i], score: t.score[i], review: rt.review[i] }, true);
         features.push(f);
+        if (++sinceYield >= CHUNK_ROWS) {
+          sinceYield = 0;
+          await new Promise((r) => setTimeout(r, 0));
+          if (gen !== this.generation) return;
+        }
       }
     }
     this.source.clear(true);
     this.source.addFeatures(features);
+  }
+
+  /** Update review states in place; rebuild only when added boxes changed the row count. */
+  private refreshReview(): void {
+    const byDate = new Map(this.state.results.map((d) => [d.dateIso, reviewedTable(this.state, d)]));
+    const features = this.source.getFeatures();
+    const total = [...byDate.values()].reduce((n, rt) => n + rt.table.count, 0);
+    if (total !== features.length) { this.rebuild(); return; }
+    for (const f of features) {
+      const review = byDate.get(f.get('date'))?.review[f.get('row')];
+      if (review && review !== f.get('review')) f.set('review', review);
+    }
   }
 
   /** The feature of a detection (to centre the map on it). */

@@ -10,6 +10,7 @@ export interface AppEvents {
   'review-changed': void;
   'selection-changed': void;
   'shown-date-changed': void;
+  'coverage-changed': void;
   'notice': { level: 'error' | 'info'; text: string };
 }
 

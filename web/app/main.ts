@@ -25,13 +25,16 @@ import { addArea, addHole, editArea } from './aoi-actions.ts';
 import { fetchDefaultModel } from './model-load.ts';
 import { fetchManifest, openDemo } from './demo.ts';
 import { readPageConfig } from './config.ts';
+import { CoverageService } from './coverage-service.ts';
 import { restoreKeptWork, restoreKeptScenes } from './restore.ts';
 import { toErrorInfo } from '../core/errors.ts';
 import type { DateTally } from './tally.ts';
 
 async function main(): Promise<void> {
+  const config = readPageConfig(location);
   const store = await WorkStore.open().catch(() => null);
   const state: AppState = createAppState(store);
+  if (config.workers !== null) state.poolSize = config.workers;
   const layout = buildLayout(document.getElementById('app')!);
   mountNotices(state, layout.notices);
   cautionStrip(layout.foot);
@@ -48,7 +51,7 @@ async function main(): Promise<void> {
     edited: (id, polys) => { void editArea(state, id, polys); },
   });
   const detections = new DetectionsLayer(view, state);
-  const runs = new RunController(state, { pool, tally: tally.api });
+  const runs = new RunController(state, { pool, tally: tally.api }, { paceMs: config.paceMs });
   let lastTally: DateTally[] = [];
 
   const useModel = async (m: ModelEntry) => {
@@ -63,7 +66,7 @@ async function main(): Promise<void> {
   mountAoiPanel(state, layout.areas, aoiLayer);
   mountDetectorPanel(state, layout.detector, useModel);
   mountRunPanel(state, layout.run, runs, pool);
-  mountTallyPanel(state, layout.tabs.tally, (t) => { lastTally = t; });
+  mountTallyPanel(state, layout.tabs.tally, new CoverageService(state, tally.api), (t) => { lastTally = t; });
   mountComparePanel(state, layout.tabs.compare, () => lastTally);
   mountReviewPanel(state, layout.tabs.check, { view, detections, layout });
   mountTakeawayPanel(state, layout.tabs.takeaway, { view, getTally: () => lastTally });
@@ -72,7 +75,6 @@ async function main(): Promise<void> {
   view.map.on('change:view', () => { aoiLayer.render(state.aois); detections.rebuild(); });
 
   await restoreKeptWork(state);
-  const config = readPageConfig(location);
   const demo = await fetchManifest(config.manifestUrl);
   try {
     await useModel(await fetchDefaultModel(config.modelUrl ?? demo?.modelUrl ?? undefined));
@@ -80,6 +82,7 @@ async function main(): Promise<void> {
     state.events.emit('notice', { level: 'error', text: toErrorInfo(err).message });
   }
   if (demo) await openDemo(state, svc, demo);
+  else state.events.emit('notice', { level: 'info', text: 'No demo scenes were found (run npm start to build them). Open your own GeoTIFF scenes to begin.' });
   await restoreKeptScenes(state, svc);
   await runs.restore();
   document.body.dataset.ready = 'true';

@@ -37,7 +37,7 @@ export async function buildReport(state: AppState, view: MapView, tally: DateTal
   const metrics = ap ? Object.entries(ap).map(([k, v]) => `${esc(k)} AP@0.5 ${f(v, 2)}`).join(', ') : 'no measured metrics in the sidecar';
   return `<!doctype html><html lang="en"><head><meta charset="utf-8"><title>seamtally report</title>
 <style>@page{size:A4;margin:10mm}body{font:9.5px/1.3 system-ui,sans-serif;color:#111;margin:0}h1{font-size:15px;margin:0 0 2px}h2{font-size:11px;margin:6px 0 2px}
-table{border-collapse:collapse;width:100%}td,th{border-bottom:1px solid #ccc;padding:1px 3px;text-align:left}img{max-width:100%}
+table{border-collapse:collapse;width:100%}td,th{border-bottom:1px solid #ccc;padding:1px 3px;text-align:left}img{max-width:100%;max-height:85mm;object-fit:contain}
 .two{display:flex;gap:8px}.two>*{flex:1}.caution{border:1px solid #b8860b;background:#fff8e1;padding:4px}.muted{color:#555}</style></head><body>
 <h1>seamtally — object counts by area</h1><div class="muted">Generated ${new Date().toISOString().slice(0, 16).replace('T', ' ')} UTC · score ≥ ${state.minScore.toFixed(2)} · ${state.scenes.length} scene(s): ${esc(state.scenes.map((s) => `${s.name} (${s.dateIso})`).join(', '))}</div>
 <div class="two"><div><h2>Map</h2><img alt="map" src="${mapPng}"></div><div><h2>Counts over dates</h2><img alt="chart" src="${chart}"></div></div>

@@ -5,11 +5,13 @@ import type { DetectorPool } from './worker-pool.ts';
 import type { TallyApi, TileDetections } from '../../workers/contract.ts';
 import type { Remote } from 'comlink';
 import { planRun, tileKey, type RunPlan } from './run-plan.ts';
-import type { RunRecord } from './store.ts';
+import type { RunRecord, TileRecord } from './store.ts';
 import { toErrorInfo, fromErrorInfo } from '../core/errors.ts';
 import { detectionKeys } from './detection-keys.ts';
 
 const LIVE_MERGE_MS = 2000;
+/** Finished tiles are written to IndexedDB at most this long after they finish. */
+const WRITE_BATCH_MS = 500;
 
 export interface RunServices { pool: DetectorPool; tally: Remote<TallyApi> }
 
@@ -21,7 +23,7 @@ export class RunController {
   private lastMergeMs = 0;
   private merging: Promise<void> | null = null;
 
-  constructor(private state: AppState, private svc: RunServices) {}
+  constructor(private state: AppState, private svc: RunServices, private opts: { paceMs?: number } = {}) {}
 
   get running(): boolean { return this.abort !== null; }
 
@@ -53,24 +55,38 @@ export class RunController {
       const resumed = plan.tilesTotal - todo.length;
       const t0 = performance.now();
       let doneHere = 0;
+      // Finished tiles are kept in batches (one IndexedDB transaction each) so keeping work costs the page little.
+      let pendingWrites: TileRecord[] = [];
+      let lastWriteMs = performance.now();
+      const flush = async () => {
+        const batch = pendingWrites;
+        pendingWrites = [];
+        lastWriteMs = performance.now();
+        await state.store?.putTiles(batch);
+      };
       const msg = `${plan.tilesTotal} tiles${plan.tileShare < 1 ? ` (${Math.round(plan.tileShare * 100)} % of the scenes: areas only)` : ''}` +
         `${resumed ? `, ${resumed} kept from before` : ''} on ${this.svc.pool.size} worker${this.svc.pool.size > 1 ? 's' : ''}`;
       this.progress({ tilesDone: resumed, tilesTotal: plan.tilesTotal, message: msg });
       if (resumed) await this.mergeNow();
-      await this.svc.pool.runTasks(todo.map((t) => ({ ...t, runId: runRec.id })), {
+      // Each start gets its own dispatch id: workers remember cancelled ids, and a resume must not look cancelled.
+      const dispatchId = `${runRec.id}:${Date.now().toString(36)}`;
+      await this.svc.pool.runTasks(todo.map((t) => ({ ...t, runId: dispatchId })), {
         done: async (task, result) => {
           const key = tileKey(task.sceneKey, task.tileIndex);
           this.tiles.set(key, result);
-          await state.store?.putTile({ runId: runRec.id, tileKey: key, result });
+          pendingWrites.push({ runId: runRec.id, tileKey: key, result });
+          if (performance.now() - lastWriteMs > WRITE_BATCH_MS) await flush();
           doneHere++;
           const elapsedS = (performance.now() - t0) / 1000;
           this.progress({ tilesDone: resumed + doneHere, tilesPerS: doneHere / Math.max(elapsedS, 1e-3) });
           if (performance.now() - this.lastMergeMs > LIVE_MERGE_MS && !this.merging) void this.mergeNow();
+          if (this.opts.paceMs) await new Promise((r) => setTimeout(r, this.opts.paceMs));
         },
         failed: (task, error) => {
           state.events.emit('notice', { level: 'error', text: `Tile ${task.tileIndex} of ${task.sceneKey.slice(0, 8)}: ${error.message}` });
         },
       }, abort.signal);
+      await flush();
       if (abort.signal.aborted) {
         await state.store?.putRun({ ...runRec, status: 'cancelled' });
         this.progress({ status: 'cancelled', message: `Stopped after ${this.state.progress.tilesDone} of ${plan.tilesTotal} tiles. Run again to resume.` });
@@ -82,7 +98,7 @@ export class RunController {
       await this.mergeNow();
       await state.store?.putRun({ ...runRec, status: 'done' });
       const s = (performance.now() - t0) / 1000;
-      this.progress({ status: 'done', message: `Done: ${plan.tilesTotal} tiles, ${doneHere} run now in ${s.toFixed(1)} s.` });
+      this.progress({ status: 'done', message: `Done: ${plan.tilesTotal} tiles${resumed ? ` (${resumed} kept from before)` : ''}, ${doneHere} run now in ${s.toFixed(1)} s.` });
     } catch (err) {
       this.progress({ status: 'failed', message: '' });
       state.events.emit('notice', { level: 'error', text: toErrorInfo(err).message });

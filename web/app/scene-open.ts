@@ -55,7 +55,8 @@ export async function openScene(state: AppState, svc: SceneServices, input: Scen
     void drawScene(state, svc, entry);
     return entry;
   } catch (err) {
-    state.events.emit('notice', { level: 'error', text: `${name}: ${toErrorInfo(err).message}` });
+    const message = toErrorInfo(err).message;
+    state.events.emit('notice', { level: 'error', text: message.includes(name) ? message : `${name}: ${message}` });
     return null;
   }
 }

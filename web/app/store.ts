@@ -81,6 +81,12 @@ export class WorkStore {
   }
   putRun(r: RunRecord): Promise<string> { return this.guard(this.db.put('runs', r)); }
   putTile(t: TileRecord): Promise<[string, string]> { return this.guard(this.db.put('tiles', t)); }
+  /** Keep several finished tiles in one transaction. */
+  async putTiles(ts: TileRecord[]): Promise<void> {
+    if (ts.length === 0) return;
+    const tx = this.db.transaction('tiles', 'readwrite');
+    await this.guard(Promise.all([...ts.map((t) => tx.store.put(t)), tx.done]).then(() => undefined));
+  }
   tilesOf(runId: string): Promise<TileRecord[]> { return this.db.getAllFromIndex('tiles', 'byRun', runId); }
 
   allReview(): Promise<ReviewRecord[]> { return this.db.getAll('review'); }

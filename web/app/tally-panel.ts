@@ -1,14 +1,22 @@
 // The "Tally" tab: the score slider (all counts follow it) and the per area × date × class table with caveats.
 import type { AppState } from './state.ts';
 import { computeTally, type DateTally } from './tally.ts';
+import type { CoverageService } from './coverage-service.ts';
 import { h, setChildren, fmt } from './dom.ts';
 import { COUNTING_RULE } from '../core/point-in-polygon.ts';
+
+const headers: Array<[string, string]> = [
+  ['Area', ''], ['Date', 'Acquisition date'], ['Class', ''], ['Count', 'Counted under the rule, after review'],
+  ['Det.', 'What the detector alone found at this score'], ['Rev.', 'Detections a person has checked (accepted, rejected or added)'],
+  ['95 %', '95 % exact Poisson interval of the count (Garwood)'], ['ha', 'Area (geodesic), hectares'], ['/ha', 'Count per hectare'],
+  ['Imaged', 'Share of the area covered by valid pixels on this date'], ['GSD', 'Ground sampling distance, metres'], ['Resolution', 'Resolution caveat'],
+];
 
 const levelClass = { reliable: 'lvl-reliable', 'use-with-care': 'lvl-care', 'not-reliable': 'lvl-unreliable' } as const;
 const levelWords = { reliable: 'reliable', 'use-with-care': 'use with care', 'not-reliable': 'not reliable' } as const;
 
 /** Render the tally tab into `el`; `onTally` receives every recomputed tally (compare tab, report). */
-export function mountTallyPanel(state: AppState, el: HTMLElement, onTally: (t: DateTally[]) => void): void {
+export function mountTallyPanel(state: AppState, el: HTMLElement, coverage: CoverageService, onTally: (t: DateTally[]) => void): void {
   const value = h('span', {}, state.minScore.toFixed(2));
   const slider = h('input.slider', { type: 'range', min: '0.2', max: '0.95', step: '0.01', value: String(state.minScore),
     'aria-label': 'Score threshold', dataset: { testid: 'threshold' },
@@ -28,19 +36,18 @@ export function mountTallyPanel(state: AppState, el: HTMLElement, onTally: (t: D
   const render = () => {
     const dates = [...new Set(state.scenes.map((s) => s.dateIso))].sort();
     setChildren(dateSel, h('option', { value: '' }, 'all dates'), ...dates.map((d) => h('option', { value: d, selected: state.shownDate === d }, d)));
-    const tally = computeTally(state);
+    const tally = computeTally(state, coverage);
     onTally(tally);
     if (tally.length === 0) { setChildren(table, h('p.muted', {}, 'Run the detector to see counts.')); setChildren(notes); return; }
     if (state.aois.length === 0) { setChildren(table, h('p.muted', {}, 'Draw or import an area to count inside it.')); }
     else {
       setChildren(table, h('table.grid', {},
-        h('thead', {}, h('tr', {}, ...['Area', 'Date', 'Class', 'Count', 'Detected', 'Reviewed', '95 % interval', 'ha', 'per ha', 'Imaged', 'GSD m', 'Resolution']
-          .map((t, i) => h(i < 3 || i === 11 ? 'th.l' : 'th', {}, t)))),
+        h('thead', {}, h('tr', {}, ...headers.map(([t, title], i) => h(i < 3 || i === 11 ? 'th.l' : 'th', { title }, t)))),
         h('tbody', {}, ...tally.flatMap((d) => d.rows.map((r) => h('tr', { dataset: { aoi: r.aoiName, date: r.date, cls: r.className, count: String(r.count), detected: String(r.detectedCount), reviewed: String(r.reviewedCount) } },
           h('td.l', {}, r.aoiName), h('td.l', {}, r.date), h(`td.l.cls-${r.className}`, {}, r.className),
           h('td', {}, h('b', {}, String(r.count))), h('td', {}, String(r.detectedCount)), h('td', {}, String(r.reviewedCount)),
           h('td', {}, `${fmt(r.interval.lower, 1)}–${fmt(r.interval.upper, 1)}`),
-          h('td', {}, fmt(r.areaHa, 2)), h('td', {}, fmt(r.densityPerHa, 2)), h('td', {}, `${fmt(r.coverage * 100, 0)} %`),
+          h('td', {}, fmt(r.areaHa, 2)), h('td', {}, fmt(r.densityPerHa, 2)), h('td', {}, Number.isNaN(r.coverage) ? '…' : `${fmt(r.coverage * 100, 0)} %`),
           h('td', {}, fmt(r.gsdM, 2)),
           r.caveat ? h(`td.l.${levelClass[r.caveat.level]}`, { title: r.caveat.reason }, levelWords[r.caveat.level]) : h('td.l.muted', {}, 'no size data')))))));
     }
@@ -49,6 +56,6 @@ export function mountTallyPanel(state: AppState, el: HTMLElement, onTally: (t: D
       d.upsampling ? h('div.weak', {}, `${d.dateIso}: ${d.upsampling}`) : null,
     ]));
   };
-  for (const ev of ['results-changed', 'threshold-changed', 'review-changed', 'aois-changed', 'scenes-changed', 'model-changed'] as const) state.events.on(ev, render);
+  for (const ev of ['results-changed', 'threshold-changed', 'review-changed', 'aois-changed', 'scenes-changed', 'model-changed', 'coverage-changed'] as const) state.events.on(ev, render);
   render();
 }

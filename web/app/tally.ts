@@ -1,11 +1,11 @@
 // The tally: per date and AOI × class, counts under the rule (core counts.ts) at the slider's score, with area,
-// coverage (core coverage.ts), GSD, the resolution caveat per class and the 95 % Garwood interval.
+// coverage (measured in the tally worker), GSD, the resolution caveat per class and the 95 % Garwood interval.
 import type { AppState, AoiRecord, SceneEntry } from './state.ts';
 import { scenesByDate } from './state.ts';
 import { reviewedTable } from './date-table.ts';
 import { countPerAoi, type CountAoi, type CountRow } from '../core/counts.ts';
-import { reprojectAoi } from '../core/aoi.ts';
-import { aoiCoverage, frameToScenePxMapping, type CoverageMask } from '../core/coverage.ts';
+import { reprojectAoi, type AoiInCrs } from '../core/aoi.ts';
+import type { CoverageService } from './coverage-service.ts';
 import { multiPolygonAreaM2 } from '../core/geodesic-area.ts';
 import { parseEpsgName } from '../core/crs.ts';
 import { garwoodInterval, type Interval } from '../core/poisson-stats.ts';
@@ -22,26 +22,15 @@ export interface DateTally {
   upsampling: string | null;
 }
 
-const aoiCache = new WeakMap<AoiRecord, Map<string, CountAoi>>();
+/** AOIs reprojected into a frame and their geodesic areas, kept per AOI record (records are replaced on edit). */
+const frameCache = new WeakMap<AoiRecord, Map<number, { inFrame: AoiInCrs; areaM2: number }>>();
 
-function masksOf(scenes: SceneEntry[], frameEpsg: number): CoverageMask[] {
-  return scenes.map((s) => ({
-    frameToScenePx: frameToScenePxMapping(s.info.georef.geoTransform, s.info.georef.epsg, frameEpsg),
-    sceneWidthPx: s.info.widthPx, sceneHeightPx: s.info.heightPx, ...s.description.mask,
-  }));
-}
-
-function countAoi(aoi: AoiRecord, dateIso: string, frameEpsg: number, scenes: SceneEntry[]): CountAoi {
-  let m = aoiCache.get(aoi);
-  if (!m) { m = new Map(); aoiCache.set(aoi, m); }
-  const key = `${dateIso}|${frameEpsg}|${scenes.map((s) => s.fingerprint).join(',')}`;
-  let c = m.get(key);
-  if (!c) {
-    const inFrame = reprojectAoi(aoi, frameEpsg);
-    c = { aoi: inFrame, areaM2: multiPolygonAreaM2(aoi.polygonsLonLat), coverage: aoiCoverage(inFrame.polygons, masksOf(scenes, frameEpsg)).fraction };
-    m.set(key, c);
-  }
-  return c;
+function countAoi(aoi: AoiRecord, frameEpsg: number, scenes: SceneEntry[], coverage: CoverageService): CountAoi {
+  let m = frameCache.get(aoi);
+  if (!m) { m = new Map(); frameCache.set(aoi, m); }
+  let c = m.get(frameEpsg);
+  if (!c) { c = { inFrame: reprojectAoi(aoi, frameEpsg), areaM2: multiPolygonAreaM2(aoi.polygonsLonLat) }; m.set(frameEpsg, c); }
+  return { aoi: c.inFrame, areaM2: c.areaM2, coverage: coverage.get(aoi, c.inFrame, scenes) ?? NaN };
 }
 
 /** Caveats for every class at a GSD, from the model's sidecar (objects' critical dimension, recall-vs-GSD curve). */
@@ -55,7 +44,7 @@ export function caveatsAt(state: AppState, gsdM: number): ResolutionCaveat[] {
 }
 
 /** The whole tally for the current results, threshold, review and areas. */
-export function computeTally(state: AppState): DateTally[] {
+export function computeTally(state: AppState, coverage: CoverageService): DateTally[] {
   const model = state.model;
   if (!model) return [];
   const byDate = new Map(scenesByDate(state).map((g) => [g.dateIso, g.scenes]));
@@ -64,7 +53,7 @@ export function computeTally(state: AppState): DateTally[] {
     const gsdM = Math.max(...scenes.map((s) => s.info.georef.gsdM));
     const frameEpsg = parseEpsgName(d.table.frameCrs);
     const rt = reviewedTable(state, d);
-    const aois = state.aois.map((a) => countAoi(a, d.dateIso, frameEpsg, scenes));
+    const aois = state.aois.map((a) => countAoi(a, frameEpsg, scenes, coverage));
     const counts = countPerAoi({ detections: rt.table, classes: model.sidecar.classes, review: rt.review, aois, date: d.dateIso, gsdM },
       { minScore: state.minScore });
     const caveats = caveatsAt(state, gsdM);

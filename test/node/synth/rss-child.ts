@@ -7,12 +7,14 @@ import { synthToDir } from '../../../cli/synth.ts';
 
 const sizePx = Number(process.argv[2]);
 const gsdM = Number(process.argv[3] ?? 0.3);
+const bands = (process.argv[4] ?? 'rgb') as 'rgb' | 'rgbn' | 'pan' | '8';
+const bits = Number(process.argv[5] ?? 8) as 8 | 11 | 12 | 16;
 const dir = mkdtempSync(join(tmpdir(), 'seamtally-rss-'));
 try {
-  const p = makeSceneParams({ seed: 11, gsdM, widthPx: sizePx, name: 'rss' });
+  const p = makeSceneParams({ seed: 11, gsdM, widthPx: sizePx, name: 'rss', bands, bits });
   const t0 = performance.now();
   const st = synthToDir(dir, p);
-  process.stdout.write(`${JSON.stringify({ sizePx, gsdM, maxRssKiB: process.resourceUsage().maxRSS, renderMs: st.renderMs, totalMs: performance.now() - t0, objects: st.truthCount, fileSizeB: st.cog.fileSizeB })}\n`);
+  process.stdout.write(`${JSON.stringify({ sizePx, gsdM, bands, bits, maxRssKiB: process.resourceUsage().maxRSS, renderMs: st.renderMs, totalMs: performance.now() - t0, objects: st.truthCount, fileSizeB: st.cog.fileSizeB })}\n`);
 } finally {
   rmSync(dir, { recursive: true, force: true });
 }

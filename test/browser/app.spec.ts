@@ -1,0 +1,100 @@
+// The app end to end on the seam fixture scenes (two overlapping scenes of one date, different UTM zones, 8-bit RGB
+// and 12-bit RGB+NIR with nodata) with the fixture model: the browser's per-AOI counts must equal those of
+// `seamtally detect` on the same files (the CLI is the outside reference: same core, onnxruntime-node instead of
+// onnxruntime-web), exports validate, review changes the reviewed count, a reload mid-run resumes, bad files get
+// their sentence.
+import { test, expect, type Page } from '@playwright/test';
+import { readFileSync } from 'node:fs';
+import gjv from 'geojson-validation';
+import { makeBrowserFixture, cliCounts, type BrowserFixture } from './scenes-fixture.ts';
+
+let fx: BrowserFixture;
+test.beforeAll(() => { fx = makeBrowserFixture(); });
+
+/** Counts shown in the tally table, keyed "aoi|date|class". */
+async function tallyCounts(page: Page, field: 'count' | 'detected' | 'reviewed' = 'count'): Promise<Record<string, number>> {
+  return page.$$eval('[data-testid=tally] tr[data-aoi]', (rows, f) => Object.fromEntries(rows.map((r) => {
+    const d = (r as HTMLElement).dataset;
+    return [`${d.aoi}|${d.date}|${d.cls}`, Number(d[f])];
+  })), field);
+}
+
+async function openFixture(page: Page, extra = ''): Promise<void> {
+  await page.goto(fx.appUrl + extra);
+  await page.waitForSelector('body[data-ready=true]');
+  await expect(page.locator('[data-testid=scene-list] li')).toHaveCount(2);
+}
+
+async function runToEnd(page: Page): Promise<void> {
+  await page.click('[data-testid=run]');
+  await expect(page.locator('[data-testid=run-stats]')).toHaveAttribute('data-status', 'done', { timeout: 120_000 });
+}
+
+test('fixture demo: browser counts equal seamtally detect, GeoJSON validates, review changes the reviewed count', async ({ page }) => {
+  await openFixture(page);
+  await runToEnd(page);
+  await page.screenshot({ path: 'test-results/app-fixture-run.png' });
+  const browser = await tallyCounts(page);
+  const cli = cliCounts(fx);
+  const expected = Object.fromEntries(cli.rows.map((r) => [`${r.aoiName}|${r.date}|${r.className}`, r.count]));
+  expect(Object.keys(expected).length).toBeGreaterThan(1);
+  expect(browser).toEqual(expected);
+  expect(expected['all|2024-05-17|blob']).toBeGreaterThan(expected['west|2024-05-17|blob']);
+
+  // The slider moves every count at once: at 0.99 nothing of the fixture model's ~0.9 peaks is left... or fewer.
+  const slider = page.locator('[data-testid=threshold]');
+  await slider.fill('0.95');
+  const high = await tallyCounts(page);
+  for (const k of Object.keys(expected)) expect(high[k]).toBeLessThanOrEqual(expected[k]);
+  await slider.fill('0.5');
+
+  // Export: RFC 7946 FeatureCollection that passes geojson-validation, with review states.
+  await page.click('.tabs button[data-tab=takeaway]');
+  const [dl] = await Promise.all([page.waitForEvent('download'), page.click('[data-testid=export-geojson]')]);
+  const fc = JSON.parse(readFileSync((await dl.path())!, 'utf8'));
+  expect(gjv.valid(fc)).toBe(true);
+  expect(fc.features.length).toBeGreaterThan(0);
+  expect(fc.features[0].properties.review).toBe('unreviewed');
+
+  // Review: reject the first detection by keyboard; the reviewed count rises and the count falls where it lay.
+  await page.click('.tabs button[data-tab=check]');
+  await expect(page.locator('[data-testid=review-card]')).toContainText('unreviewed');
+  await page.locator('body').press('r');
+  await expect(page.locator('[data-testid=reviewed-count]')).toHaveAttribute('data-value', '1');
+  await page.click('.tabs button[data-tab=tally]');
+  const reviewed = await tallyCounts(page, 'reviewed');
+  const after = await tallyCounts(page);
+  expect(Object.values(reviewed).reduce((a, b) => a + b, 0)).toBeGreaterThanOrEqual(1);
+  expect(Object.values(after).reduce((a, b) => a + b, 0)).toBeLessThan(Object.values(expected).reduce((a, b) => a + b, 0));
+  await page.screenshot({ path: 'test-results/app-fixture-review.png' });
+  await page.click('.tabs button[data-tab=takeaway]');
+  const [dl2] = await Promise.all([page.waitForEvent('download'), page.click('[data-testid=export-geojson]')]);
+  const fc2 = JSON.parse(readFileSync((await dl2.path())!, 'utf8'));
+  expect(fc2.features.filter((f: { properties: { review: string } }) => f.properties.review === 'rejected')).toHaveLength(1);
+});
+
+test('a reload in the middle of a run resumes from what was kept and ends with the same counts', async ({ page }) => {
+  const cli = cliCounts(fx);
+  const expected = Object.fromEntries(cli.rows.map((r) => [`${r.aoiName}|${r.date}|${r.className}`, r.count]));
+  await openFixture(page, '&pace=120&workers=1');
+  await page.click('[data-testid=run]');
+  await page.waitForFunction(() => Number(document.querySelector<HTMLElement>('[data-testid=run-stats]')?.dataset.done) >= 8);
+  await page.reload();
+  await page.waitForSelector('body[data-ready=true]');
+  await expect(page.locator('[data-testid=run-stats]')).toHaveAttribute('data-status', 'done', { timeout: 120_000 });
+  const kept = /\((\d+) kept from before\)/.exec(await page.locator('[data-testid=run-message]').innerText());
+  expect(Number(kept?.[1])).toBeGreaterThanOrEqual(1);
+  await page.screenshot({ path: 'test-results/app-fixture-resumed.png' });
+  expect(await tallyCounts(page)).toEqual(expected);
+});
+
+test('a file that is not a TIFF and a TIFF without georeferencing each get their sentence', async ({ page }) => {
+  await openFixture(page);
+  for (const [path, words] of [[fx.notTiffPath, /not a TIFF/i], [fx.plainTiffPath, /no georeferencing/i]] as const) {
+    const [chooser] = await Promise.all([page.waitForEvent('filechooser'), page.click('[data-testid=dropzone] button')]);
+    await chooser.setFiles(path);
+    await expect(page.locator('.notice.error').last()).toContainText(words);
+  }
+  await page.screenshot({ path: 'test-results/app-bad-inputs.png' });
+  await expect(page.locator('[data-testid=scene-list] li')).toHaveCount(2);
+});
