@@ -97,6 +97,7 @@ function readText(path: string, what: string): string {
 }
 
 function loadSidecar(modelPath: string): ModelSidecar {
+  if (!existsSync(modelPath)) throw new SeamtallyError('bad-argument', `The model "${modelPath}" does not exist: check the path given to --model.`);
   const p = sidecarPath(modelPath);
   if (!existsSync(p)) throw new SeamtallyError('sidecar-invalid', `The model has no sidecar: expected "${p}" next to the .onnx file (format seamtally-model/1, see README).`);
   return parseSidecar(readFileSync(p, 'utf8'));
@@ -123,6 +124,9 @@ async function coverageMask(src: SceneSource, frameEpsg: number): Promise<Covera
     w = sz.widthPx; h = sz.heightPx;
     validMask = new Uint8Array(w * h);
     for (const b of win.bands) for (let i = 0; i < w * h; i++) if (b[i] !== info.nodata) validMask[i] = 1;
+    if (!validMask.includes(1)) {
+      throw new SeamtallyError('all-nodata', `"${info.name}" has no valid pixels (every pixel is the nodata value ${info.nodata}), so there is nothing to count: check that you picked the right scene, and its nodata value with gdalinfo.`, { name: info.name });
+    }
   }
   return {
     frameToScenePx: frameToScenePxMapping(info.georef.geoTransform, info.georef.epsg, frameEpsg),

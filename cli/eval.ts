@@ -6,7 +6,7 @@ import { parseArgs } from 'node:util';
 import { createTransform } from '../web/core/crs.ts';
 import { normaliseAxisAngle } from '../web/core/decode-outputs.ts';
 import { SeamtallyError } from '../web/core/errors.ts';
-import { classQuality, relativeCountError, type ClassQuality, type EvalDetection, type EvalTruth } from '../web/core/eval-metrics.ts';
+import { classQuality, matchVoc, prCurve, relativeCountError, type ClassQuality, type EvalDetection, type EvalTruth } from '../web/core/eval-metrics.ts';
 import { pixelToMap } from '../web/core/geotransform.ts';
 import { parseSidecar, validateSidecar, type ModelSidecar } from '../web/core/model-contract.ts';
 import { prepareScene, runScene } from '../web/core/pipeline.ts';
@@ -127,6 +127,17 @@ function aoiCounts(s: SceneEval, classes: string[], minScore: number): AoiCount[
   return out;
 }
 
+/** The score threshold with the best F1 on these scenes (to choose a sidecar minScore on a validation set). */
+function bestF1(dets: EvalDetection[], truth: EvalTruth[], c: number, iou: number) {
+  const curve = prCurve(matchVoc(dets, truth, c, { iouThreshold: iou }), dets);
+  let best = { score: NaN, f1: 0, precision: 0, recall: 0 };
+  curve.recall.forEach((r, i) => {
+    const p = curve.precision[i], f1 = p + r > 0 ? (2 * p * r) / (p + r) : 0;
+    if (f1 > best.f1 && (i + 1 >= curve.score.length || curve.score[i + 1] < curve.score[i])) best = { score: curve.score[i], f1, precision: p, recall: r };
+  });
+  return { score: finite(best.score), f1: finite(best.f1), precision: finite(best.precision), recall: finite(best.recall) };
+}
+
 function finite(x: number): number | null { return Number.isFinite(x) ? Math.round(x * 1e4) / 1e4 : null; }
 function qualityJson(q: ClassQuality) {
   return { ap50: finite(q.ap), precision: finite(q.precision), recall: finite(q.recall), tp: q.tp, fp: q.fp, fn: q.fn, positives: q.positives };
@@ -202,7 +213,7 @@ export async function run(argv: string[]): Promise<number> {
   const report = {
     model: basename(a.model), scenesDir: a.scenes, definition: 'PASCAL VOC 2010+ all-point interpolated AP (Everingham et al. 2010), rotated-box IoU >= ' + a.iou + '; truth with visibleFraction < ' + a.difficultBelow + ' is "difficult" (ignored)',
     operatingMinScore: minScore, evalMinScore: a.evalMinScore, countingRule: 'an object counts for an AOI when its centre lies inside; AOIs = the four quadrants of each scene (split at its centre)',
-    overall: Object.fromEntries(sidecar.classes.map((cls, c) => [cls, qualityJson(classQuality(dets, truth, c, { iouThreshold: a.iou, minScore }))])),
+    overall: Object.fromEntries(sidecar.classes.map((cls, c) => [cls, { ...qualityJson(classQuality(dets, truth, c, { iouThreshold: a.iou, minScore })), bestF1: bestF1(dets, truth, c, a.iou) }])),
     byGsd,
     msPerTileInfer: finite(scenes.reduce((x, s) => x + s.msPerTileInfer * s.tiles, 0) / Math.max(1, scenes.reduce((x, s) => x + s.tiles, 0))),
     scenes: scenes.map((s) => ({ name: s.name, gsdM: finite(s.gsdM), tiles: s.tiles, detections: s.dets.filter((d) => d.score >= minScore).length, truth: s.truth.length })),

@@ -36,7 +36,8 @@ export class SceneRenderer {
   readonly nb: number;
   readonly s: number;
   private readonly m: number[][];
-  private readonly colourCache = new Map<Refl, Float32Array>();
+  // Keyed weakly by the reflectance arrays of live primitives: evicted blocks take their entries with them.
+  private readonly colourCache = new WeakMap<Refl, Float32Array>();
   private readonly psf: Float32Array;
   private scratch = new Float32Array(0);
   private scratchMask = new Uint8Array(0);

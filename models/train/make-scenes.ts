@@ -1,7 +1,7 @@
 // Training / validation / evaluation scene sets for the detector, written with the synthesizer's own scene writer
 // (the same code `seamtally synth` runs). The sets never share seeds; the evaluation set also uses a scenario,
 // dates (sun angles, seasons) and sensor settings the training set does not.
-// Usage: node --import ./models/train/cjs-named-exports.mjs --import tsx models/train/make-scenes.ts train|val|eval DIR [count]
+// Usage: node --import ./models/train/cjs-named-exports.mjs --import tsx models/train/make-scenes.ts train|val|eval|tiling DIR [count]
 import { existsSync, mkdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { makeSceneParams, type BandLayout, type BitDepth, type SceneOptions } from '../../synth/scene-params.ts';
@@ -33,8 +33,10 @@ function dateIn(r: () => number, months: number[]): string {
 }
 
 /** The scene options of one set. */
-export function sceneSet(set: 'train' | 'val' | 'eval', count: number): SceneOptions[] {
+export function sceneSet(set: 'train' | 'val' | 'eval' | 'tiling', count: number): SceneOptions[] {
   const out: SceneOptions[] = [];
+  // one large held-out scene for the tiling-invariance check (counts with three tile sizes)
+  if (set === 'tiling') return [{ name: 'tiling-4000', seed: 9100, gsdM: 0.3, widthPx: 4000, scenario: 'town', date: '2024-10-20', bands: 'rgb', bits: 8 }];
   if (set === 'eval') {
     // five evaluation GSDs × scenes; held-out seeds (9001+), autumn/winter dates, other sensor settings
     const gsds = [0.15, 0.3, 0.45, 0.6, 0.8];
@@ -69,7 +71,7 @@ export function sceneSet(set: 'train' | 'val' | 'eval', count: number): SceneOpt
 
 async function main(): Promise<void> {
   const [set, dir, n] = process.argv.slice(2);
-  if (set !== 'train' && set !== 'val' && set !== 'eval') throw new Error('usage: make-scenes.ts train|val|eval DIR [count]');
+  if (set !== 'train' && set !== 'val' && set !== 'eval' && set !== 'tiling') throw new Error('usage: make-scenes.ts train|val|eval|tiling DIR [count]');
   mkdirSync(dir, { recursive: true });
   for (const o of sceneSet(set, Number(n ?? (set === 'train' ? 40 : set === 'val' ? 4 : 10)))) {
     const p = makeSceneParams(o);

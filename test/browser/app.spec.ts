@@ -6,7 +6,7 @@
 import { test, expect, type Page } from '@playwright/test';
 import { readFileSync } from 'node:fs';
 import gjv from 'geojson-validation';
-import { makeBrowserFixture, cliCounts, type BrowserFixture } from './scenes-fixture.ts';
+import { makeBrowserFixture, cliCounts, FIXTURE_MODEL, type BrowserFixture } from './scenes-fixture.ts';
 
 let fx: BrowserFixture;
 test.beforeAll(() => { fx = makeBrowserFixture(); });
@@ -88,13 +88,17 @@ test('a reload in the middle of a run resumes from what was kept and ends with t
   expect(await tallyCounts(page)).toEqual(expected);
 });
 
-test('a file that is not a TIFF and a TIFF without georeferencing each get their sentence', async ({ page }) => {
+test('a non-TIFF, a TIFF without georeferencing and a broken model sidecar each get their sentence', async ({ page }) => {
   await openFixture(page);
   for (const [path, words] of [[fx.notTiffPath, /not a TIFF/i], [fx.plainTiffPath, /no georeferencing/i]] as const) {
     const [chooser] = await Promise.all([page.waitForEvent('filechooser'), page.click('[data-testid=dropzone] button')]);
     await chooser.setFiles(path);
     await expect(page.locator('.notice.error').last()).toContainText(words);
   }
+  const [chooser] = await Promise.all([page.waitForEvent('filechooser'), page.click('[data-testid=other-model]')]);
+  await chooser.setFiles([FIXTURE_MODEL, fx.badSidecarPath]);
+  await expect(page.locator('.notice.error').last()).toContainText('"tilePx"');
   await page.screenshot({ path: 'test-results/app-bad-inputs.png' });
   await expect(page.locator('[data-testid=scene-list] li')).toHaveCount(2);
+  await expect(page.locator('[data-testid=model-info]')).toContainText('fixture-blob-detector');
 });

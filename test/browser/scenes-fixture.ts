@@ -20,6 +20,8 @@ export interface BrowserFixture {
   scenePaths: string[];
   notTiffPath: string;
   plainTiffPath: string;
+  /** A sidecar whose "tilePx" is not a whole number (must be refused naming the field). */
+  badSidecarPath: string;
 }
 
 /** Write the fixture demo into .cache/test-browser/blob (idempotent per process). */
@@ -38,8 +40,11 @@ export function makeBrowserFixture(): BrowserFixture {
   const notTiffPath = join(dir, 'notes.tif');
   writeFileSync(notTiffPath, 'These are field notes, not an image.\n');
   const plainTiffPath = writeGeoTiff(join(dir, 'plain.tif'), { widthPx: 32, heightPx: 32, bandCount: 3, dtype: 'uint8', data: new Uint8Array(32 * 32 * 3).fill(90) }, {});
+  const badSidecarPath = join(dir, 'broken.model.json');
+  const sidecar = JSON.parse(readFileSync(FIXTURE_MODEL.replace(/\.onnx$/, '.model.json'), 'utf8'));
+  writeFileSync(badSidecarPath, JSON.stringify({ ...sidecar, tilePx: 'big' }));
   return {
-    dir, aoiPath, scenePaths: [fx.pathA, fx.pathB], notTiffPath, plainTiffPath,
+    dir, aoiPath, scenePaths: [fx.pathA, fx.pathB], notTiffPath, plainTiffPath, badSidecarPath,
     appUrl: `/?manifest=/testdata/blob/manifest.json&model=/fixtures/fixture-model.model.json`,
   };
 }

@@ -2,6 +2,7 @@
 import type { AppState, AoiRecord } from './state.ts';
 import { parseAois, validateAoi, aoisToGeoJson } from '../core/aoi.ts';
 import { pointInRing, OUTSIDE } from '../core/point-in-polygon.ts';
+import { polygonAreaM2 } from '../core/geodesic-area.ts';
 import { toErrorInfo } from '../core/errors.ts';
 import type { LonLatDeg } from '../core/types.ts';
 
@@ -30,18 +31,24 @@ export async function addArea(state: AppState, ringLonLat: LonLatDeg[], name = n
   return true;
 }
 
-/** Cut a hole into the first area polygon whose outer ring holds the hole's first vertex. */
+/** Cut a hole into the smallest area polygon whose outer ring holds the whole hole. */
 export async function addHole(state: AppState, ringLonLat: LonLatDeg[]): Promise<void> {
-  const p = ringLonLat[0];
+  let best: { a: AoiRecord; k: number; areaM2: number } | null = null;
   for (const a of state.aois) {
-    const k = a.polygonsLonLat.findIndex((poly) => pointInRing(p[0], p[1], poly[0]) !== OUTSIDE);
-    if (k < 0) continue;
-    const next: AoiRecord = { ...a, polygonsLonLat: a.polygonsLonLat.map((poly, i) => (i === k ? [...poly, ringLonLat] : poly)) };
-    try { validateAoi(next); } catch (err) { report(state, err); return; }
-    await replace(state, next);
+    a.polygonsLonLat.forEach((poly, k) => {
+      if (ringLonLat.some((q) => pointInRing(q[0], q[1], poly[0]) === OUTSIDE)) return;
+      const areaM2 = polygonAreaM2(poly);
+      if (!best || areaM2 < best.areaM2) best = { a, k, areaM2 };
+    });
+  }
+  if (!best) {
+    state.events.emit('notice', { level: 'error', text: 'A hole must be drawn inside an area: draw it wholly inside the area you want to cut.' });
     return;
   }
-  state.events.emit('notice', { level: 'error', text: 'A hole must be drawn inside an area: start the hole inside the area you want to cut.' });
+  const { a, k } = best as { a: AoiRecord; k: number };
+  const next: AoiRecord = { ...a, polygonsLonLat: a.polygonsLonLat.map((poly, i) => (i === k ? [...poly, ringLonLat] : poly)) };
+  try { validateAoi(next); } catch (err) { report(state, err); return; }
+  await replace(state, next);
 }
 
 /** Replace an area's geometry (after vertex editing). */

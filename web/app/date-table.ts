@@ -4,6 +4,7 @@ import { reviewKey } from './state.ts';
 import { createDetectionTable, type DetectionTable, type ReviewState } from '../core/types.ts';
 import { concatDetectionTables } from '../core/seam-merge.ts';
 import { createTransform, parseEpsgName } from '../core/crs.ts';
+import { detectionKey } from './detection-keys.ts';
 
 export interface ReviewedTable {
   dateIso: string;
@@ -33,13 +34,25 @@ function addedTable(frameCrs: string, boxes: AddedBox[]): DetectionTable {
   return t;
 }
 
-/** The counted table of `d` under the state's review decisions and added boxes. */
+const memo = new WeakMap<DateDetections, { version: number; rt: ReviewedTable }>();
+
+/** The counted table of `d` under the state's review decisions and added boxes (memoised per review version). */
 export function reviewedTable(state: AppState, d: DateDetections): ReviewedTable {
+  const hit = memo.get(d);
+  if (hit && hit.version === state.reviewVersion) return hit.rt;
+  const rt = buildReviewedTable(state, d);
+  memo.set(d, { version: state.reviewVersion, rt });
+  return rt;
+}
+
+function buildReviewedTable(state: AppState, d: DateDetections): ReviewedTable {
   const added = state.added.filter((a) => a.dateIso === d.dateIso);
   const base = d.table;
   const table = added.length ? concatDetectionTables([base, addedTable(base.frameCrs, added)]) : base;
-  const review: ReviewState[] = new Array(table.count);
-  for (let i = 0; i < base.count; i++) review[i] = state.review.get(reviewKey(d.dateIso, d.keys[i])) ?? 'unreviewed';
+  const review: ReviewState[] = new Array<ReviewState>(table.count).fill('unreviewed');
+  if (state.review.size > 0) {
+    for (let i = 0; i < base.count; i++) review[i] = state.review.get(reviewKey(d.dateIso, detectionKey(base, i))) ?? 'unreviewed';
+  }
   for (let i = base.count; i < table.count; i++) review[i] = 'added';
   return { dateIso: d.dateIso, table, review, detectorRows: base.count, addedIds: added.map((a) => a.id) };
 }

@@ -8,7 +8,7 @@ import { toErrorInfo } from '../core/errors.ts';
 /** Render the detector block; `useModel` loads a model into the pool (validating it) and sets it on the state. */
 export function mountDetectorPanel(state: AppState, el: HTMLElement, useModel: (m: ModelEntry) => Promise<void>): void {
   const body = h('div', { dataset: { testid: 'model-info' } });
-  const other = h('button.small', { onclick: async () => {
+  const other = h('button.small', { dataset: { testid: 'other-model' }, onclick: async () => {
     const files = await pickFiles('.onnx,.json', true);
     if (files.length === 0) return;
     try { await useModel(await readModelFiles(files)); } catch (err) {

@@ -10,6 +10,7 @@ export async function restoreKeptWork(state: AppState): Promise<void> {
   state.aois = await store.allAois();
   state.review = new Map((await store.allReview()).map((r) => [r.key, r.state]));
   state.added = await store.allAdded();
+  state.reviewVersion++;
   state.events.emit('aois-changed');
   state.events.emit('review-changed');
 }

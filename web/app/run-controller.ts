@@ -7,7 +7,6 @@ import type { Remote } from 'comlink';
 import { planRun, tileKey, type RunPlan } from './run-plan.ts';
 import type { RunRecord, TileRecord } from './store.ts';
 import { toErrorInfo, fromErrorInfo } from '../core/errors.ts';
-import { detectionKeys } from './detection-keys.ts';
 
 const LIVE_MERGE_MS = 2000;
 /** Finished tiles are written to IndexedDB at most this long after they finish. */
@@ -127,7 +126,7 @@ export class RunController {
         const r = await this.svc.tally.mergeDate(tables, {});
         if (!r.ok) throw fromErrorInfo(r.error);
         const table = r.value.frameCrs ? r.value : { ...r.value, frameCrs: `EPSG:${d.frameEpsg}` };
-        out.push({ dateIso: d.dateIso, table, keys: detectionKeys(table) });
+        out.push({ dateIso: d.dateIso, table });
       }
       this.state.results = out;
       this.state.events.emit('results-changed');

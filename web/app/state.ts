@@ -54,8 +54,6 @@ export interface ModelEntry {
 export interface DateDetections {
   dateIso: string;
   table: DetectionTable;
-  /** Stable key per row (class + rounded centre), used for review decisions. */
-  keys: string[];
 }
 
 export interface RunProgress {
@@ -84,6 +82,8 @@ export interface AppState {
   results: DateDetections[];
   review: Map<string, ReviewState>;
   added: AddedBox[];
+  /** Bumped on every change of `review` or `added` (memoised views of the results compare it). */
+  reviewVersion: number;
   /** Currently selected detection (date + row of its reviewed table) for review. */
   selection: { dateIso: string; row: number } | null;
   /** Date whose scenes and detections the map shows (null = all). */
@@ -105,6 +105,7 @@ export function createAppState(store: WorkStore | null): AppState {
     results: [],
     review: new Map(),
     added: [],
+    reviewVersion: 0,
     selection: null,
     shownDate: null,
   };

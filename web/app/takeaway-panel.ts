@@ -34,7 +34,7 @@ export function mountTakeawayPanel(state: AppState, el: HTMLElement, svc: Takeaw
     h('div.row', {}, h('button.small', { onclick: guarded(async () => {
       if (!confirm('Forget kept runs, detections and review decisions? Areas and scenes stay.')) return;
       await state.store?.clearWork();
-      state.review.clear(); state.added = []; state.results = [];
+      state.review.clear(); state.added = []; state.results = []; state.reviewVersion++;
       state.events.emit('results-changed'); state.events.emit('review-changed');
     }) }, 'Forget kept work')),
   );

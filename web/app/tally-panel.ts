@@ -6,14 +6,14 @@ import { h, setChildren, fmt } from './dom.ts';
 import { COUNTING_RULE } from '../core/point-in-polygon.ts';
 
 const headers: Array<[string, string]> = [
-  ['Area', ''], ['Date', 'Acquisition date'], ['Class', ''], ['Count', 'Counted under the rule, after review'],
+  ['Area', ''], ['Class', ''], ['Count', 'Counted under the rule, after review'],
   ['Det.', 'What the detector alone found at this score'], ['Rev.', 'Detections a person has checked (accepted, rejected or added)'],
   ['95 %', '95 % exact Poisson interval of the count (Garwood)'], ['ha', 'Area (geodesic), hectares'], ['/ha', 'Count per hectare'],
-  ['Imaged', 'Share of the area covered by valid pixels on this date'], ['GSD', 'Ground sampling distance, metres'], ['Resolution', 'Resolution caveat'],
+  ['Imaged', 'Share of the area covered by valid pixels on this date'], ['Res.', 'Resolution caveat (hover for the reason)'],
 ];
 
 const levelClass = { reliable: 'lvl-reliable', 'use-with-care': 'lvl-care', 'not-reliable': 'lvl-unreliable' } as const;
-const levelWords = { reliable: 'reliable', 'use-with-care': 'use with care', 'not-reliable': 'not reliable' } as const;
+const levelWords = { reliable: 'reliable', 'use-with-care': 'care', 'not-reliable': 'unreliable' } as const;
 
 /** Render the tally tab into `el`; `onTally` receives every recomputed tally (compare tab, report). */
 export function mountTallyPanel(state: AppState, el: HTMLElement, coverage: CoverageService, onTally: (t: DateTally[]) => void): void {
@@ -42,14 +42,16 @@ export function mountTallyPanel(state: AppState, el: HTMLElement, coverage: Cove
     if (state.aois.length === 0) { setChildren(table, h('p.muted', {}, 'Draw or import an area to count inside it.')); }
     else {
       setChildren(table, h('table.grid', {},
-        h('thead', {}, h('tr', {}, ...headers.map(([t, title], i) => h(i < 3 || i === 11 ? 'th.l' : 'th', { title }, t)))),
-        h('tbody', {}, ...tally.flatMap((d) => d.rows.map((r) => h('tr', { dataset: { aoi: r.aoiName, date: r.date, cls: r.className, count: String(r.count), detected: String(r.detectedCount), reviewed: String(r.reviewedCount) } },
-          h('td.l', {}, r.aoiName), h('td.l', {}, r.date), h(`td.l.cls-${r.className}`, {}, r.className),
-          h('td', {}, h('b', {}, String(r.count))), h('td', {}, String(r.detectedCount)), h('td', {}, String(r.reviewedCount)),
-          h('td', {}, `${fmt(r.interval.lower, 1)}–${fmt(r.interval.upper, 1)}`),
-          h('td', {}, fmt(r.areaHa, 2)), h('td', {}, fmt(r.densityPerHa, 2)), h('td', {}, Number.isNaN(r.coverage) ? '…' : `${fmt(r.coverage * 100, 0)} %`),
-          h('td', {}, fmt(r.gsdM, 2)),
-          r.caveat ? h(`td.l.${levelClass[r.caveat.level]}`, { title: r.caveat.reason }, levelWords[r.caveat.level]) : h('td.l.muted', {}, 'no size data')))))));
+        h('thead', {}, h('tr', {}, ...headers.map(([t, title], i) => h(i < 2 || i === 9 ? 'th.l' : 'th', { title }, t)))),
+        h('tbody', {}, ...tally.flatMap((d) => [
+          h('tr.datehead', {}, h('td.l', { colSpan: headers.length }, `${d.dateIso} · ${fmt(d.gsdM, 2)} m GSD · ${d.sceneNames.length} scene${d.sceneNames.length > 1 ? 's' : ''}`)),
+          ...d.rows.map((r) => h('tr', { dataset: { aoi: r.aoiName, date: r.date, cls: r.className, count: String(r.count), detected: String(r.detectedCount), reviewed: String(r.reviewedCount) } },
+            h('td.l', {}, r.aoiName), h(`td.l.cls-${r.className}`, {}, r.className),
+            h('td', {}, h('b', {}, String(r.count))), h('td', {}, String(r.detectedCount)), h('td', {}, String(r.reviewedCount)),
+            h('td', {}, `${fmt(r.interval.lower, 1)}–${fmt(r.interval.upper, 1)}`),
+            h('td', {}, fmt(r.areaHa, 2)), h('td', {}, fmt(r.densityPerHa, 2)), h('td', {}, Number.isNaN(r.coverage) ? '…' : `${fmt(r.coverage * 100, 0)} %`),
+            r.caveat ? h(`td.l.${levelClass[r.caveat.level]}`, { title: r.caveat.reason }, levelWords[r.caveat.level]) : h('td.l.muted', {}, '–'))),
+        ]))));
     }
     setChildren(notes, ...tally.flatMap((d) => [
       ...d.caveats.map((c) => h('div', {}, h(`span.${levelClass[c.level]}`, {}, `${d.dateIso} ${c.className}: `), c.reason)),

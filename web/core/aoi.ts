@@ -102,10 +102,14 @@ function readPolygon(p: unknown, name: string, k: number): LonLatDeg[][] {
 /** Check one AOI; throws 'aoi-invalid' / 'aoi-not-lonlat' with a sentence saying what to fix. */
 export function validateAoi(aoi: Aoi): void {
   const name = aoi.name;
-  if (aoi.polygonsLonLat.length === 0) throw invalid(`AOI "${name}" is empty: it has no polygon.`, { id: aoi.id });
+  if (aoi.polygonsLonLat.length === 0) throw invalid(`AOI "${name}" is empty (it has no polygon): draw it again or remove it from the file.`, { id: aoi.id });
   const all = aoi.polygonsLonLat.flat(2);
-  if (all.length === 0) throw invalid(`AOI "${name}" is empty: its polygon has no positions.`, { id: aoi.id });
+  if (all.length === 0) throw invalid(`AOI "${name}" is empty (its polygon has no positions): draw it again or remove it from the file.`, { id: aoi.id });
   const outOfRange = all.find((p) => Math.abs(p[0]) > 180 || Math.abs(p[1]) > 90);
+  if (outOfRange && all.every((p) => Math.abs(p[0]) < 360 && Math.abs(p[1]) <= 90) && all.some((p) => Math.abs(p[0]) <= 180)) {
+    // longitudes running on past ±180° (some editors write 180.01 instead of -179.99): an antimeridian crossing
+    throw invalid(`AOI "${name}" runs past 180° longitude (position ${JSON.stringify(outOfRange)}), i.e. across the antimeridian: split it there into two polygons of a MultiPolygon with longitudes from -180 to 180 (RFC 7946 §3.1.9).`, { id: aoi.id, position: outOfRange });
+  }
   if (outOfRange) {
     const swapped = all.every((p) => Math.abs(p[0]) <= 90 && Math.abs(p[1]) <= 180);
     throw new SeamtallyError(
@@ -117,7 +121,7 @@ export function validateAoi(aoi: Aoi): void {
     );
   }
   aoi.polygonsLonLat.forEach((poly, k) => {
-    if (poly.length === 0) throw invalid(`Polygon ${k + 1} of AOI "${name}" is empty.`, { id: aoi.id });
+    if (poly.length === 0) throw invalid(`Polygon ${k + 1} of AOI "${name}" is empty (it has no rings): draw it again or remove it.`, { id: aoi.id });
     poly.forEach((ring, r) => {
       const what = `${r === 0 ? 'The outer ring' : `Hole ${r}`} of polygon ${k + 1} of AOI "${name}"`;
       const a = ring[0];

@@ -83,7 +83,7 @@ export interface ModelSidecar {
 type Obj = Record<string, unknown>;
 
 function fail(field: string, expected: string): never {
-  throw new SeamtallyError('sidecar-invalid', `The model sidecar's "${field}" is invalid: expected ${expected}. Fix the .model.json file.`, { field });
+  throw new SeamtallyError('sidecar-invalid', `The model sidecar's "${field}" is invalid (expected ${expected}): fix the .model.json file.`, { field });
 }
 function isObj(v: unknown): v is Obj { return typeof v === 'object' && v !== null && !Array.isArray(v); }
 function obj(v: unknown, field: string): Obj { if (!isObj(v)) fail(field, 'an object'); return v; }
@@ -198,11 +198,11 @@ export function parseSidecar(text: string): ModelSidecar {
   if (typeof text !== 'string') fail('(file)', 'JSON text');
   if (text.length > MAX_SIDECAR_BYTES) {
     throw new SeamtallyError('sidecar-invalid',
-      `The model sidecar is ${text.length} characters long; at most ${MAX_SIDECAR_BYTES} are accepted. Check that you picked the .model.json file.`);
+      `The model sidecar is ${text.length} characters long, but at most ${MAX_SIDECAR_BYTES} are accepted: check that you picked the .model.json file.`);
   }
   let value: unknown;
   try { value = JSON.parse(text); } catch (e) {
-    throw new SeamtallyError('sidecar-invalid', `The model sidecar is not valid JSON (${(e as Error).message}). Fix the .model.json file.`);
+    throw new SeamtallyError('sidecar-invalid', `The model sidecar is not valid JSON (${(e as Error).message}): fix the .model.json file.`);
   }
   return validateSidecar(value);
 }
@@ -225,7 +225,7 @@ export interface ModelIO {
 }
 
 function mismatch(field: string, what: string): never {
-  throw new SeamtallyError('model-mismatch', `The model does not match its sidecar at "${field}": ${what}. Use the sidecar written for this .onnx file.`, { field });
+  throw new SeamtallyError('model-mismatch', `The model does not match its sidecar at "${field}" (${what}): use the sidecar written for this .onnx file.`, { field });
 }
 
 /** Compare dims with expectations; `null` in `want` means any value; dynamic dims in `got` are accepted. */

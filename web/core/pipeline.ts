@@ -77,7 +77,12 @@ export async function prepareScene(source: SceneSource, sceneIdx: number, sideca
     throw new SeamtallyError('bad-argument', `The tile size ${tilePx} px is not a multiple of the model's output stride ${sidecar.output.stride}: choose a multiple of ${sidecar.output.stride}.`);
   }
   const bands = selectBands(info, opts.bands);
-  const sample = joinSamples(await readStretchSample(source, opts.signal));
+  const windows = await readStretchSample(source, opts.signal);
+  // A whole level read and not one valid pixel: say so now (8-bit scenes get no percentile pass that would notice).
+  if (windows.length === 1 && !hasValidPixel(windows[0], bands)) {
+    throw new SeamtallyError('all-nodata', `"${info.name}" has no valid pixels (every pixel is nodata), so there is nothing to count: check that you picked the right scene, and its nodata value with gdalinfo.`);
+  }
+  const sample = joinSamples(windows);
   const stretch = computeStretch(sample, bands, { significantBits: info.significantBits, ...opts.stretch });
   const plan = planTiles({
     sceneWidthPx: info.widthPx,
@@ -94,6 +99,15 @@ export async function prepareScene(source: SceneSource, sceneIdx: number, sideca
     minScore: opts.minScore ?? sidecar.minScore ?? 0.5,
     userDefs: opts.userDefs,
   };
+}
+
+function hasValidPixel(win: RasterWindow, bands: BandSelection): boolean {
+  const nd = win.nodata;
+  for (const b of new Set(bands.indices)) {
+    const a = win.bands[b];
+    for (let i = 0; i < a.length; i++) if (!Number.isNaN(a[i]) && a[i] !== nd) return true;
+  }
+  return false;
 }
 
 /** Reusable per-worker buffers: the NCHW input tensor and a validity mask of one tile. */

@@ -129,7 +129,7 @@ export function percentiles(arrays: readonly SampleArray[], nodata: number | nul
       vals[k++] = v;
     }
   }
-  if (k === 0) throw new SeamtallyError('all-nodata', 'This scene has no valid pixels (everything is nodata), so there is nothing to detect.');
+  if (k === 0) throw new SeamtallyError('all-nodata', 'This scene has no valid pixels (everything is nodata), so there is nothing to detect: check that you picked the right scene, and its nodata value with gdalinfo.');
   const s = vals.subarray(0, k).sort();
   const rank = (p: number) => s[Math.min(k - 1, Math.max(0, Math.ceil((p / 100) * k) - 1))];
   return [rank(lowPct), rank(highPct)];

@@ -11,6 +11,37 @@ export async function checkMagic(head: Uint8Array, name: string): Promise<void> 
   }
 }
 
+/** Largest scene seamtally opens: 10 gigapixels (e.g. 100 000 × 100 000 px, 30 km × 30 km at 0.3 m GSD). */
+export const MAX_SCENE_PX = 10_000_000_000;
+/** Largest decoded file block (one tile, or one group of strips, all bands): 256 MiB. */
+export const MAX_BLOCK_BYTES = 256 * 1024 * 1024;
+
+/** Header sizes checked before any pixel is read, so a file that claims a huge raster never causes a huge allocation. */
+export interface RasterSizeClaim {
+  widthPx: number;
+  heightPx: number;
+  bandCount: number;
+  bytesPerSample: number;
+  /** The block seamtally decodes at once: a tile, or the strips grouped into one block. */
+  blockWidthPx: number;
+  blockHeightPx: number;
+}
+
+/** Throw 'too-large' / 'unsupported-raster' when the header's sizes are beyond the documented limits or not sizes at all. */
+export function checkRasterSize(c: RasterSizeClaim, name: string): void {
+  const dims = [c.widthPx, c.heightPx, c.bandCount, c.blockWidthPx, c.blockHeightPx];
+  if (!dims.every((v) => Number.isSafeInteger(v) && v > 0)) {
+    throw new SeamtallyError('unsupported-raster', `"${name}" has a damaged header (raster ${c.widthPx} × ${c.heightPx} px, ${c.bandCount} band(s), blocks ${c.blockWidthPx} × ${c.blockHeightPx} px): check it with gdalinfo, or copy the file again.`, { name });
+  }
+  if (c.widthPx * c.heightPx > MAX_SCENE_PX) {
+    throw new SeamtallyError('too-large', `"${name}" claims ${c.widthPx} × ${c.heightPx} px, but seamtally reads scenes of at most ${MAX_SCENE_PX / 1e9} gigapixels: cut it into smaller scenes (for example gdal_translate -srcwin) and count them as one date.`, { name });
+  }
+  const blockBytes = c.blockWidthPx * c.blockHeightPx * c.bandCount * c.bytesPerSample;
+  if (blockBytes > MAX_BLOCK_BYTES) {
+    throw new SeamtallyError('too-large', `"${name}" stores its pixels in blocks of ${c.blockWidthPx} × ${c.blockHeightPx} px (${Math.round(blockBytes / 2 ** 20)} MiB each, at most ${MAX_BLOCK_BYTES / 2 ** 20} MiB are decoded at once): rewrite it tiled, for example gdal_translate -of COG in.tif out.tif.`, { name });
+  }
+}
+
 export function classify(err: unknown, name: string, stage: 'open' | 'read'): unknown {
   if (err instanceof SeamtallyError) {
     // name the file in sentences that come from the core (which does not know file names)

@@ -7,7 +7,7 @@ import type { UserCrsDefs } from '../core/crs.ts';
 import type { PixelBox } from '../core/types.ts';
 import { TileCache } from '../core/tile-cache.ts';
 import { fastBlockReader, type FastBlockReader } from './geotiff-blocks.ts';
-import { checkMagic, classify } from './geotiff-errors.ts';
+import { checkMagic, checkRasterSize, classify } from './geotiff-errors.ts';
 
 export { checkMagic };
 import {
@@ -39,6 +39,8 @@ export interface DecodedBlock {
 
 /** Rows per block when the file is stripped (strips are grouped until a block has at least this many rows). */
 const STRIP_BLOCK_MIN_ROWS = 64;
+/** Images (IFDs) looked at per file: the full-resolution image, overviews and masks of a COG fit many times over. */
+const MAX_IMAGES = 64;
 let sourceCounter = 0;
 
 /** Open a File or Blob (browser page or worker). */
@@ -97,16 +99,34 @@ function dtypeOf(image: GeoTIFFImage): { dtype: SampleDtype; bits: number; signi
 
 /** Images that are reduced-resolution versions of the first (NewSubfileType bit 0), masks (bit 2) left out. */
 async function overviewImages(tiff: GeoTIFF, main: GeoTIFFImage): Promise<GeoTIFFImage[]> {
-  const n = await tiff.getImageCount();
   const out: GeoTIFFImage[] = [];
-  for (let i = 1; i < n; i++) {
-    const img = await tiff.getImage(i);
+  // Walk at most MAX_IMAGES IFDs (not getImageCount, which never ends when a damaged file's IFD chain loops).
+  for (let i = 1; i < MAX_IMAGES; i++) {
+    let img: GeoTIFFImage;
+    try {
+      img = await tiff.getImage(i);
+    } catch (err) {
+      if (err instanceof Error && /^No image at index/.test(err.message)) break;
+      throw err;
+    }
     const subfile = Number(img.getFileDirectory().getValue('NewSubfileType') ?? 0);
     if ((subfile & 4) !== 0 || (subfile & 1) === 0) continue;
     if (img.getWidth() >= main.getWidth() || img.getSamplesPerPixel() !== main.getSamplesPerPixel()) continue;
     out.push(img);
   }
   return out.sort((a, b) => b.getWidth() - a.getWidth());
+}
+
+/** The sizes a header claims, with the decode block as GeoTiffSource.blockSize groups strips. */
+function sizeClaim(img: GeoTIFFImage) {
+  const th = img.getTileHeight();
+  const tiled = img.getFileDirectory().hasTag('TileOffsets');
+  return {
+    widthPx: img.getWidth(), heightPx: img.getHeight(), bandCount: img.getSamplesPerPixel(),
+    bytesPerSample: Math.max(1, Math.ceil(Number(img.getBitsPerSample(0)) / 8)),
+    blockWidthPx: tiled ? img.getTileWidth() : img.getWidth(),
+    blockHeightPx: tiled ? th : Math.ceil(STRIP_BLOCK_MIN_ROWS / th) * th,
+  };
 }
 
 async function maxDataEnd(image: GeoTIFFImage): Promise<number> {
@@ -137,7 +157,9 @@ async function openTiff(open: () => Promise<GeoTIFF>, opts: GeoTiffSourceOptions
   try {
     tiff = await open();
     main = await tiff.getImage(0);
+    checkRasterSize(sizeClaim(main), name);
     overviews = await overviewImages(tiff, main);
+    for (const o of overviews) checkRasterSize(sizeClaim(o), name);
     if (opts.byteLength !== undefined) {
       for (const img of [main, ...overviews]) {
         if ((await maxDataEnd(img)) > opts.byteLength) {
