@@ -89,6 +89,8 @@ export default defineConfig({
   server: { headers: isolationHeaders, port: 5173, strictPort: false, fs: { allow: ['..'] } },
   preview: { headers: isolationHeaders, port: 4173 },
   worker: { format: 'es' },
-  optimizeDeps: { exclude: ['onnxruntime-web'] },
+  // Scan the worker entries too, so geotiff/comlink are pre-bundled at start instead of being discovered when the
+  // first worker loads (which makes Vite reload the page, e.g. in the middle of a test).
+  optimizeDeps: { exclude: ['onnxruntime-web'], entries: ['index.html', '../workers/*.worker.ts'] },
   build: { outDir: '../dist', emptyOutDir: true, target: 'es2022' },
 });

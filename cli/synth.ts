@@ -80,7 +80,7 @@ export function parseSynthArgs(argv: string[]): SynthArgs {
 }
 
 /** Write one scene's files into `dir` (whole or not at all: temp names renamed at the end). */
-export function synthToDir(dir: string, p: SceneParams, o: { flavour?: 'auto' | 'classic' | 'bigtiff'; onTile?: (done: number) => void } = {}): WriteSceneStats {
+export function synthToDir(dir: string, p: SceneParams, o: { flavour?: 'auto' | 'classic' | 'bigtiff'; onTile?: (done: number) => void; blockCache?: number } = {}): WriteSceneStats {
   mkdirSync(dir, { recursive: true });
   const tifPath = join(dir, `${p.name}.tif`);
   const truthPath = join(dir, `${p.name}.truth.geojson`);

@@ -1,6 +1,6 @@
 // Renders any pixel window of a scene: supersampled painting, PSF + pixel aggregation, sensor noise, quantisation.
 import type { SceneParams } from './scene-params.ts';
-import { World } from './world.ts';
+import { World, worldOf } from './world.ts';
 import { LAYER_COUNT, Layer, primBounds, type Prim } from './prims.ts';
 import { applyShadow, markShadow, paint, type Canvas } from './painter.ts';
 import { bandMatrix, toBands, MATERIALS, type Refl } from './spectra.ts';
@@ -43,8 +43,9 @@ export class SceneRenderer {
   private scratchMask = new Uint8Array(0);
   private readonly marginPx: number;
   readonly inFootprint: (xPx: number, yPx: number) => boolean;
-  constructor(readonly p: SceneParams) {
-    this.world = new World({ seed: p.seed, scenario: p.scenario, date: p.date, occupancy: p.occupancy, sunAzimuthDeg: p.sunAzimuthDeg, sunElevationDeg: p.sunElevationDeg });
+  /** `o.blockCache`: world blocks kept between windows (default 128). */
+  constructor(readonly p: SceneParams, o: { blockCache?: number } = {}) {
+    this.world = worldOf(p, o.blockCache);
     this.m = bandMatrix(p.bands);
     this.nb = this.m.length;
     this.s = supersampleFactor(p.gsdM);

@@ -1,6 +1,6 @@
 // Truth labels of a scene: every vehicle and PV array whose centre lies in the imaged footprint, with tree occlusion.
 import type { SceneParams } from './scene-params.ts';
-import { World } from './world.ts';
+import { worldOf, type World } from './world.ts';
 import type { TruthObject } from './objects.ts';
 import { footprintTestMap } from './footprint.ts';
 import { createTransform } from '../web/core/crs.ts';
@@ -41,13 +41,14 @@ export function visibleFraction(o: TruthObject, crowns: number[]): number {
  * Visit the scene's truth objects block by block (row-major in the world grid), so a huge scene's truth can be
  * written out without holding it all. An object belongs to the scene when its centre lies in the imaged footprint.
  */
-export function forEachTruth(p: SceneParams, visit: (o: TruthObject) => void, world = new World({ seed: p.seed, scenario: p.scenario, date: p.date, occupancy: p.occupancy, sunAzimuthDeg: p.sunAzimuthDeg, sunElevationDeg: p.sunElevationDeg })): void {
+export function forEachTruth(p: SceneParams, visit: (o: TruthObject) => void, world: World = worldOf(p)): void {
   const inside = footprintTestMap(p);
   const minX = p.originXM;
   const maxX = p.originXM + p.widthPx * p.gsdM;
   const maxY = p.originYM;
   const minY = p.originYM - p.heightPx * p.gsdM;
-  const blocks = world.blocksFor(minX, minY, maxX, maxY);
+  // Strips 8 blocks wide, row by row inside a strip: a block's 3 × 3 neighbourhood stays in a small cache.
+  const blocks = world.blocksFor(minX, minY, maxX, maxY).sort((a, b) => Math.floor(a[0] / 8) - Math.floor(b[0] / 8) || a[1] - b[1] || a[0] - b[0]);
   for (const [bx, by] of blocks) {
     const content = world.block(bx, by);
     const keep = content.truth.filter((o) => inside(o.cxM, o.cyM));
@@ -90,7 +91,7 @@ export function truthHeader(p: SceneParams): Record<string, unknown> {
 }
 
 /** Stream the truth GeoJSON as text chunks (header, features, footer), bounded memory. */
-export function writeTruthGeoJson(p: SceneParams, emit: (text: string) => void): number {
+export function writeTruthGeoJson(p: SceneParams, emit: (text: string) => void, world: World = worldOf(p)): number {
   const toLonLat = createTransform(p.epsg, 4326);
   const head = JSON.stringify(truthHeader(p));
   emit(`${head.slice(0, -1)},"features":[\n`);
@@ -98,7 +99,7 @@ export function writeTruthGeoJson(p: SceneParams, emit: (text: string) => void):
   forEachTruth(p, (o) => {
     emit(`${n === 0 ? '' : ',\n'}${JSON.stringify(truthFeature(o, toLonLat))}`);
     n++;
-  });
+  }, world);
   emit('\n]}\n');
   return n;
 }

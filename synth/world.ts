@@ -52,13 +52,19 @@ function townPlan(seed: number, bx: number, by: number, date: string, occ: numbe
   }
 }
 
+/** The world of a scene's parameters. */
+export function worldOf(p: WorldSpec, blockCache?: number): World {
+  return new World({ seed: p.seed, scenario: p.scenario, date: p.date, occupancy: p.occupancy, sunAzimuthDeg: p.sunAzimuthDeg, sunElevationDeg: p.sunElevationDeg }, blockCache);
+}
+
 export class World {
   readonly grid: GridPlacement;
   readonly frameCos: number;
   readonly frameSin: number;
   private cache = new Map<string, BlockContent>();
   private readonly year: number;
-  constructor(readonly spec: WorldSpec) {
+  /** `blockCache`: how many generated blocks to keep (LRU, ~200 KiB each). Default 128. */
+  constructor(readonly spec: WorldSpec, private readonly blockCache = 128) {
     this.year = decimalYear(spec.date);
     this.grid = spec.scenario === 'business-park'
       ? BUSINESS_PARK_GRID
@@ -89,7 +95,7 @@ export class World {
     if (hit) { this.cache.delete(key); this.cache.set(key, hit); return hit; }
     const content = this.generate(bx, by);
     this.cache.set(key, content);
-    if (this.cache.size > 256) this.cache.delete(this.cache.keys().next().value as string);
+    if (this.cache.size > this.blockCache) this.cache.delete(this.cache.keys().next().value as string);
     return content;
   }
 

@@ -5,6 +5,7 @@ import { writeCog, type ByteSink, type CogWriteStats, type Spool } from './cog-w
 import { geoTiffTags } from './geotiff-tags.ts';
 import { bandNames } from './spectra.ts';
 import { writeTruthGeoJson } from './truth.ts';
+import { worldOf } from './world.ts';
 
 export interface SceneOutputs {
   /** Receives the .tif bytes. */
@@ -29,22 +30,24 @@ export function sceneMetadata(p: SceneParams): Record<string, string> {
   };
 }
 
-export function writeScene(p: SceneParams, out: SceneOutputs, o: { flavour?: 'classic' | 'bigtiff' | 'auto'; onTile?: (done: number) => void } = {}): WriteSceneStats {
+/** Options: COG flavour (default auto), a per-tile callback, world blocks cached (default 128). */
+export function writeScene(p: SceneParams, out: SceneOutputs, o: { flavour?: 'classic' | 'bigtiff' | 'auto'; onTile?: (done: number) => void; blockCache?: number } = {}): WriteSceneStats {
   const t0 = performance.now();
-  const r = new SceneRenderer(p);
+  let r: SceneRenderer | null = new SceneRenderer(p, { blockCache: o.blockCache });
   let renderMs = 0;
   let tiles = 0;
   const cog = writeCog({
-    widthPx: p.widthPx, heightPx: p.heightPx, bandCount: r.nb, bitsPerSample: p.bits === 8 ? 8 : 16,
+    widthPx: p.widthPx, heightPx: p.heightPx, bandCount: bandNames(p.bands).length, bitsPerSample: p.bits === 8 ? 8 : 16,
     photometric: p.bands === 'rgb' || p.bands === 'rgbn' ? 'rgb' : 'minisblack', tilePx: p.tilePx, flavour: o.flavour,
     extraTags: geoTiffTags({ epsg: p.epsg, originXM: p.originXM, originYM: p.originYM, gsdM: p.gsdM, nodata: 0, date: p.date, bandNames: bandNames(p.bands), metadata: sceneMetadata(p) }),
   }, (x0Px, y0Px, wPx, hPx) => {
     const t = performance.now();
-    const a = r.render({ x0Px, y0Px, wPx, hPx });
+    const a = r!.render({ x0Px, y0Px, wPx, hPx });
     renderMs += performance.now() - t;
     o.onTile?.(++tiles);
     return a;
   }, out.tif, out.newSpool);
-  const truthCount = writeTruthGeoJson(p, out.truth);
+  r = null; // let the renderer's block cache go before the truth pass builds its own
+  const truthCount = writeTruthGeoJson(p, out.truth, worldOf(p, o.blockCache));
   return { cog, truthCount, renderMs, totalMs: performance.now() - t0 };
 }

@@ -1,7 +1,7 @@
 // Training / validation / evaluation scene sets for the detector, written with the synthesizer's own scene writer
 // (the same code `seamtally synth` runs). The sets never share seeds; the evaluation set also uses a scenario,
 // dates (sun angles, seasons) and sensor settings the training set does not.
-// Usage: node --import ./models/train/cjs-named-exports.mjs --import tsx models/train/make-scenes.ts train|val|eval|tiling DIR [count]
+// Usage: node --import ./models/train/cjs-named-exports.mjs --import tsx models/train/make-scenes.ts train|lowsun|val|eval|tiling DIR [count]
 import { existsSync, mkdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { makeSceneParams, type BandLayout, type BitDepth, type SceneOptions } from '../../synth/scene-params.ts';
@@ -33,7 +33,7 @@ function dateIn(r: () => number, months: number[]): string {
 }
 
 /** The scene options of one set. */
-export function sceneSet(set: 'train' | 'val' | 'eval' | 'tiling', count: number): SceneOptions[] {
+export function sceneSet(set: 'train' | 'lowsun' | 'val' | 'eval' | 'tiling', count: number): SceneOptions[] {
   const out: SceneOptions[] = [];
   // one large held-out scene for the tiling-invariance check (counts with three tile sizes)
   if (set === 'tiling') return [{ name: 'tiling-4000', seed: 9100, gsdM: 0.3, widthPx: 4000, scenario: 'town', date: '2024-10-20', bands: 'rgb', bits: 8 }];
@@ -55,6 +55,20 @@ export function sceneSet(set: 'train' | 'val' | 'eval' | 'tiling', count: number
     }
     return out;
   }
+  if (set === 'lowsun') {
+    // training stage 3: low sun (long shadows) at any azimuth, seeds 101+ (town scenario only)
+    const r = prng(101);
+    for (let i = 0; i < count; i++) {
+      const gsdM = Math.round(Math.exp(Math.log(0.13) + r() * (Math.log(0.85) - Math.log(0.13))) * 1000) / 1000;
+      out.push({
+        name: `lowsun-${String(i).padStart(3, '0')}`, seed: 101 + i, gsdM, widthPx: sidePx(gsdM), scenario: 'town',
+        date: dateIn(r, [3, 4, 5, 6, 7, 8, 9]), bands: pick(r, LAYOUTS), bits: pick(r, BITS),
+        sunElevationDeg: 12 + 20 * r(), sunAzimuthDeg: 360 * r(),
+        psfSigmaPx: 0.3 + 0.5 * r(), hazeFraction: 0.12 * r() * r(), readNoiseE: 5 + 40 * r(), occupancy: 0.15 + 0.8 * r(),
+      });
+    }
+    return out;
+  }
   const r = prng(set === 'train' ? 1 : 5001);
   for (let i = 0; i < count; i++) {
     const g = Math.exp(Math.log(0.13) + r() * (Math.log(0.85) - Math.log(0.13)));
@@ -71,7 +85,7 @@ export function sceneSet(set: 'train' | 'val' | 'eval' | 'tiling', count: number
 
 async function main(): Promise<void> {
   const [set, dir, n] = process.argv.slice(2);
-  if (set !== 'train' && set !== 'val' && set !== 'eval' && set !== 'tiling') throw new Error('usage: make-scenes.ts train|val|eval|tiling DIR [count]');
+  if (set !== 'train' && set !== 'lowsun' && set !== 'val' && set !== 'eval' && set !== 'tiling') throw new Error('usage: make-scenes.ts train|lowsun|val|eval|tiling DIR [count]');
   mkdirSync(dir, { recursive: true });
   for (const o of sceneSet(set, Number(n ?? (set === 'train' ? 40 : set === 'val' ? 4 : 10)))) {
     const p = makeSceneParams(o);

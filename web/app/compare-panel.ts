@@ -42,7 +42,7 @@ export function mountComparePanel(state: AppState, el: HTMLElement, getTally: ()
         h('td', {}, String(c.before.count)), h('td', {}, String(c.after.count)),
         h('td', {}, `${c.change > 0 ? '+' : ''}${c.change}`), h('td', {}, c.changePct === null ? '–' : `${c.changePct > 0 ? '+' : ''}${fmt(c.changePct, 0)}`),
         h('td', {}, c.test ? (c.test.pValue < 0.001 ? '<0.001' : fmt(c.test.pValue, 3)) : '–'),
-        c.weakReasons.length ? h('td.l.weak', { title: c.weakReasons.join('; ') }, 'weak ⓘ') : h('td.l.lvl-reliable', {}, 'like for like'))))),
+        c.weakReasons.length ? h('td.l.weak', { title: c.weakReasons.join('; ') }, 'weak') : h('td.l.lvl-reliable', {}, 'like for like'))))),
       weakNotes(rows));
   };
   for (const ev of ['results-changed', 'threshold-changed', 'review-changed', 'aois-changed', 'coverage-changed'] as const) state.events.on(ev, () => queueMicrotask(render));

@@ -8,6 +8,7 @@ import type { PixelBox } from '../core/types.ts';
 import { TileCache } from '../core/tile-cache.ts';
 import { fastBlockReader, type FastBlockReader } from './geotiff-blocks.ts';
 import { checkMagic, checkRasterSize, classify } from './geotiff-errors.ts';
+import './lzw-decoder.ts'; // registers the bounded LZW decoder with geotiff.js
 
 export { checkMagic };
 import {
@@ -55,13 +56,17 @@ export async function openGeoTiffBlob(blob: Blob, opts: GeoTiffSourceOptions = {
  * (geotiff's own fromBlob needs FileReader, which Node lacks).
  */
 function blobSource(blob: Blob): Parameters<typeof GeoTIFF.fromSource>[0] {
+  // Offsets come from the file's own header: clamp them to the blob (Node's Blob.slice aborts the whole process on
+  // offsets past 2^32; a damaged header then reads short and fails as 'truncated').
+  const at = (v: number) => (Number.isFinite(v) ? Math.min(blob.size, Math.max(0, Math.floor(v))) : 0);
+  const slice = (s: { offset: number; length: number }) => blob.slice(at(s.offset), at(s.offset + s.length)).arrayBuffer();
   const src = {
     async fetch(slices: { offset: number; length: number }[], signal?: AbortSignal): Promise<ArrayBuffer[]> {
       if (signal?.aborted) throw new SeamtallyError('cancelled', 'The run was cancelled.');
-      return Promise.all(slices.map((s) => blob.slice(s.offset, s.offset + s.length).arrayBuffer()));
+      return Promise.all(slices.map(slice));
     },
     async fetchSlice(s: { offset: number; length: number }) {
-      return { data: await blob.slice(s.offset, s.offset + s.length).arrayBuffer(), offset: s.offset, length: s.length };
+      return { data: await slice(s), offset: s.offset, length: s.length };
     },
     get fileSize() { return blob.size; },
     async close() {},
@@ -123,6 +128,7 @@ function sizeClaim(img: GeoTIFFImage) {
   const tiled = img.getFileDirectory().hasTag('TileOffsets');
   return {
     widthPx: img.getWidth(), heightPx: img.getHeight(), bandCount: img.getSamplesPerPixel(),
+    tileWidthPx: img.getTileWidth(), tileHeightPx: th,
     bytesPerSample: Math.max(1, Math.ceil(Number(img.getBitsPerSample(0)) / 8)),
     blockWidthPx: tiled ? img.getTileWidth() : img.getWidth(),
     blockHeightPx: tiled ? th : Math.ceil(STRIP_BLOCK_MIN_ROWS / th) * th,

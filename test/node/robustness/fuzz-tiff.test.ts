@@ -7,14 +7,14 @@ import { join } from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { SeamtallyError } from '../../../web/core/errors.ts';
 import { openGeoTiffBlob } from '../../../web/io/geotiff-source.ts';
-import { baseGeo, ifdEntries } from '../../fixtures/bad-input-assets.ts';
+import { baseGeo } from '../../fixtures/bad-input-assets.ts';
 import { writeGeoTiff } from '../../fixtures/gdal-scenes.ts';
-import { bounded, sentenceProblem, xorshift32, type Rng } from './harness.ts';
+import { bounded, sentenceProblem, xorshift32 } from './harness.ts';
+import { mutateTiff } from './tiff-mutator.ts';
 
-const CASES_PER_BASE = 100;
+const CASES_PER_BASE = Number(process.env.FUZZ_CASES ?? 100);
 const CASE_MS = 5_000;
-const SEED = 0x5eed7;
-const HEAD_BYTES = 4096;
+const SEED = Number(process.env.FUZZ_SEED ?? 0x5eed7);
 const dir = mkdtempSync(join(tmpdir(), 'seamtally-fuzz-tiff-'));
 const bases: { name: string; bytes: Uint8Array }[] = [];
 
@@ -27,36 +27,6 @@ beforeAll(() => {
   bases.push({ name: 'strips-lzw-u16', bytes: new Uint8Array(readFileSync(writeGeoTiff(join(dir, 'b.tif'), { widthPx: w, heightPx: h, bandCount: 4, dtype: 'uint16', data: u16 },
     baseGeo({ blockPx: undefined, compress: 'LZW', extraArgs: ['-co', 'PREDICTOR=2', '-co', 'BLOCKYSIZE=7'] })))) });
 });
-
-const INTERESTING = [0, 1, 2, 3, 7, 8, 16, 255, 256, 0x7fff, 0x8000, 0xffff, 0x10000, 0x7fffffff, 0x80000000, 0xffffffff];
-
-/** One mutated copy: 1–3 of bit flips, random bytes, interesting values in IFD fields or anywhere, a cut, a zeroed run. */
-function mutate(src: Uint8Array, rng: Rng): { bytes: Uint8Array; what: string[] } {
-  let b = src.slice();
-  const what: string[] = [];
-  const head = Math.min(b.length, HEAD_BYTES);
-  const { entries, le } = ifdEntries(src);
-  const put = (at: number, v: number, size: 2 | 4) => {
-    if (at + size > b.length) return;
-    const dv = new DataView(b.buffer);
-    if (size === 2) dv.setUint16(at, v & 0xffff, le); else dv.setUint32(at, v >>> 0, le);
-  };
-  for (let n = 1 + rng.int(3); n > 0; n--) {
-    const op = rng.int(6);
-    if (op === 0) { const at = rng.int(head); b[at] ^= 1 << rng.int(8); what.push(`flip@${at}`); }
-    else if (op === 1) { const at = rng.int(head); b[at] = rng.int(256); what.push(`byte@${at}`); }
-    else if (op === 2) {
-      const e = rng.pick(entries);
-      const field = rng.pick(['type', 'count', 'value'] as const);
-      const v = rng.pick(INTERESTING);
-      if (field === 'type') put(e.at + 2, rng.int(20), 2); else put(e.at + (field === 'count' ? 4 : 8), v, e.type === 3 && field === 'value' ? 2 : 4);
-      what.push(`tag${e.tag}.${field}=${v}`);
-    } else if (op === 3) { const at = rng.int(head); const v = rng.pick(INTERESTING); put(at, v, rng.chance(0.5) ? 2 : 4); what.push(`int@${at}=${v}`); }
-    else if (op === 4) { const len = 8 + rng.int(b.length - 8); b = b.slice(0, len); what.push(`cut@${len}`); }
-    else { const at = rng.int(head); const len = 1 + rng.int(64); b.fill(0, at, Math.min(b.length, at + len)); what.push(`zero@${at}+${len}`); }
-  }
-  return { bytes: b, what };
-}
 
 async function openAndRead(bytes: Uint8Array): Promise<string> {
   const src = await openGeoTiffBlob(new Blob([bytes]), { name: 'fuzz.tif' });
@@ -81,7 +51,7 @@ describe(`mutated GeoTIFF headers (${2 * CASES_PER_BASE} cases, seed ${SEED})`, 
     const leaks: string[] = [];
     for (const base of bases) {
       for (let k = 0; k < CASES_PER_BASE; k++) {
-        const m = mutate(base.bytes, rng);
+        const m = mutateTiff(base.bytes, rng);
         if (process.env.SHOW_CASES) process.stderr.write(`case ${base.name} #${k} [${m.what.join(", ")}]\n`);
         const r = await bounded(() => openAndRead(m.bytes), CASE_MS);
         const label = `${base.name} #${k} [${m.what.join(', ')}]`;

@@ -31,14 +31,14 @@ export async function bounded<T>(work: () => Promise<T>, ms: number): Promise<{ 
 
 /**
  * What is wrong with a text shown to a user, or null: it must be one line that ends a sentence, with no stack trace,
- * no untyped JS error names and no leaked `undefined` / `[object Object]` / `NaN`. (Sentence grammar cannot be checked
+ * no untyped JS error names and no leaked `undefined` / `[object Object]`. (Sentence grammar cannot be checked
  * by machine; these are the failures it can catch.)
  */
 export function sentenceProblem(text: string): string | null {
   const lines = text.trim().split('\n').filter((l) => l.trim() !== '');
   if (lines.length !== 1) return `expected exactly one line, got ${lines.length}`;
   if (!/[.)]$/.test(lines[0])) return 'does not end a sentence';
-  const bad = /\bat .*\.(ts|js|mjs):\d+|TypeError|RangeError|ReferenceError|undefined|\[object Object\]|\bNaN\b|Something went wrong inside/.exec(lines[0]);
+  const bad = /\bat .*\.(ts|js|mjs):\d+|TypeError|RangeError|ReferenceError|undefined|\[object Object\]|Something went wrong inside/.exec(lines[0]);
   return bad ? `contains "${bad[0]}"` : null;
 }
 
