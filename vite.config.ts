@@ -5,15 +5,40 @@ import { defineConfig, type Plugin, type Connect } from 'vite';
 import { createReadStream, existsSync, readdirSync, statSync } from 'node:fs';
 import { resolve, normalize, extname, sep } from 'node:path';
 import { fileURLToPath } from 'node:url';
+import { contentSecurityPolicy, metaContentSecurityPolicy, parseImageryOrigins, IMAGERY_ORIGINS_ENV } from './scripts/csp.ts';
 
 const repoDir = fileURLToPath(new URL('.', import.meta.url));
 
-/** COOP/COEP make the page cross-origin isolated so onnxruntime-web can use threads. CSP keeps data local. */
+/** Origins besides the app's own that COG URLs may be read from (read once at start; see scripts/csp.ts). */
+const imageryOrigins = parseImageryOrigins(process.env[IMAGERY_ORIGINS_ENV]);
+
+/**
+ * COOP/COEP make the page cross-origin isolated so onnxruntime-web can use threads. The CSP keeps data local; it is
+ * sent as a header on every response (workers take their policy from their own script's response) and repeated as
+ * a <meta> tag in index.html, so a build served by another static server is still held to it in the page.
+ */
 export const isolationHeaders = {
   'Cross-Origin-Opener-Policy': 'same-origin',
   'Cross-Origin-Embedder-Policy': 'require-corp',
   'Cross-Origin-Resource-Policy': 'same-origin',
+  'Content-Security-Policy': contentSecurityPolicy(imageryOrigins),
+  'X-Content-Type-Options': 'nosniff',
+  'Referrer-Policy': 'no-referrer',
 };
+
+/** Put the headers on every response of the dev and preview servers (before Vite's own middlewares) and the meta CSP into the page. */
+function securityHeaders(): Plugin {
+  const setAll: Connect.NextHandleFunction = (_req, res, next) => {
+    for (const [k, v] of Object.entries(isolationHeaders)) res.setHeader(k, v);
+    next();
+  };
+  return {
+    name: 'seamtally-security-headers',
+    configureServer(server) { server.middlewares.use(setAll); },
+    configurePreviewServer(server) { server.middlewares.use(setAll); },
+    transformIndexHtml: () => [{ tag: 'meta', attrs: { 'http-equiv': 'Content-Security-Policy', content: metaContentSecurityPolicy(imageryOrigins) }, injectTo: 'head-prepend' }],
+  };
+}
 
 const contentTypes: Record<string, string> = {
   '.json': 'application/json', '.geojson': 'application/geo+json', '.tif': 'image/tiff', '.tiff': 'image/tiff',
@@ -85,7 +110,7 @@ function dataRoutes(): Plugin {
 export default defineConfig({
   root: 'web',
   publicDir: 'public',
-  plugins: [dataRoutes()],
+  plugins: [securityHeaders(), dataRoutes()],
   server: { headers: isolationHeaders, port: 5173, strictPort: false, fs: { allow: ['..'] } },
   preview: { headers: isolationHeaders, port: 4173 },
   worker: { format: 'es' },

@@ -41,6 +41,7 @@ export class SceneRenderer {
   private readonly psf: Float32Array;
   private scratch = new Float32Array(0);
   private scratchMask = new Uint8Array(0);
+  private sensorScratch = new Float32Array(0);
   private readonly marginPx: number;
   readonly inFootprint: (xPx: number, yPx: number) => boolean;
   /** `o.blockCache`: world blocks kept between windows (default 128). */
@@ -128,10 +129,13 @@ export class SceneRenderer {
     const g = this.psf;
     const R = (g.length - 1) / 2;
     const inv = 1 / (s * s);
-    const hb = new Float32Array(sh * rw);
-    const box = new Float32Array(rh * rw);
-    const gx = new Float32Array(rh * ow);
-    const lin = new Float32Array(ow * oh * nb);
+    const need = sh * rw + rh * rw + rh * ow + ow * oh * nb;
+    if (this.sensorScratch.length < need) this.sensorScratch = new Float32Array(need);
+    const sc = this.sensorScratch;
+    const hb = sc.subarray(0, sh * rw);
+    const box = sc.subarray(sh * rw, sh * rw + rh * rw);
+    const gx = sc.subarray(sh * rw + rh * rw, sh * rw + rh * rw + rh * ow);
+    const lin = sc.subarray(sh * rw + rh * rw + rh * ow, need);
     for (let q = 0; q < nb; q++) {
       const base = q * plane;
       for (let j = 0; j < sh; j++) {

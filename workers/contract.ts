@@ -1,7 +1,7 @@
 // The typed page–worker contract: every call the page makes into a worker, with plain-data arguments and results.
 // Worker APIs `satisfies` these interfaces; the page wraps workers with comlink as Remote<...> of them.
 import type { Result } from '../web/core/errors.ts';
-import type { DetectionTable, GeoTransform, MapXY } from '../web/core/types.ts';
+import type { DetectionTable, GeoTransform, MapXY, PixelBox } from '../web/core/types.ts';
 import type { SceneInfo } from '../web/core/scene-source.ts';
 import type { TilePlan } from '../web/core/tiling.ts';
 import type { BandSelection, Stretch } from '../web/core/radiometry.ts';
@@ -65,6 +65,8 @@ export interface TileTask {
   input: SceneInput;
   prepare: ScenePrepareOptions;
   tileIndex: number;
+  /** Test-only fault (set only when the page was opened with `?fault=`): 'throw' fails the tile, 'crash' kills the worker. */
+  fault?: 'throw' | 'crash';
 }
 
 /** Per-stage times of one tile, in milliseconds (core TileTimings). */
@@ -104,6 +106,8 @@ export interface CoverageMaskSpec extends ValidMask {
   sceneEpsg: number;
   sceneWidthPx: number;
   sceneHeightPx: number;
+  /** Cores of this scene's tiles that failed (full-resolution scene pixels): counted as not imaged. */
+  failedTilesPx?: PixelBox[];
 }
 
 /** Merging and coverage run off the main thread in the tally worker. */

@@ -31,6 +31,13 @@ function needModel(): NonNullable<typeof model> {
   return model;
 }
 
+/** Test-only faults (the page sets `task.fault` only under `?fault=`): an ordinary throw, or a crash that never answers. */
+async function injectFault(fault: 'throw' | 'crash'): Promise<void> {
+  if (fault === 'throw') throw new Error('injected failure (?fault=throw)');
+  setTimeout(() => { throw new Error('injected crash (?fault=crash)'); });
+  await new Promise<never>(() => {});
+}
+
 const api = {
   describeScene: (input) => guard(async () => {
     const src = await openInput(input, 8 * 1024 * 1024);
@@ -59,6 +66,7 @@ const api = {
   }),
   detectTile: (task) => guard(async () => {
     if (cancelledRuns.has(task.runId)) throw new SeamtallyError('cancelled', 'The run was cancelled.');
+    if (task.fault) await injectFault(task.fault);
     const m = needModel();
     const p = await scenes.pipeline(task.sceneKey, task.input, m.sidecar, m.id, task.prepare);
     const tile = p.plan.tiles[task.tileIndex];

@@ -1,4 +1,5 @@
 // Page configuration, read once at start from the address: which demo manifest and which model to open.
+import { readFaultPlan, type FaultPlan } from './faults.ts';
 
 export interface PageConfig {
   /** Demo manifest URL (default /demo/manifest.json; `?manifest=` overrides, e.g. for test scenes). */
@@ -9,6 +10,8 @@ export interface PageConfig {
   paceMs: number;
   /** Worker count (`?workers=`), or null for navigator.hardwareConcurrency. */
   workers: number | null;
+  /** Test-only fault injection (`?fault=`, see faults.ts); null (no hooks) unless the flag is present. */
+  faults: FaultPlan | null;
 }
 
 /** Same-origin paths only: anything else is ignored (nothing is fetched from elsewhere without the analyst asking). */
@@ -24,5 +27,6 @@ export function readPageConfig(loc: Location): PageConfig {
     modelUrl: localPath(q.get('model')),
     paceMs: Math.min(num('pace') ?? 0, 10_000),
     workers: num('workers') !== null ? Math.max(1, Math.min(32, Math.floor(num('workers')!))) : null,
+    faults: readFaultPlan(loc.search),
   };
 }

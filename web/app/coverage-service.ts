@@ -13,12 +13,14 @@ export class CoverageService {
   get(aoi: AoiRecord, inFrame: AoiInCrs, scenes: SceneEntry[]): number | null {
     let m = this.cache.get(aoi);
     if (!m) { m = new Map(); this.cache.set(aoi, m); }
-    const key = `${inFrame.epsg}|${scenes.map((s) => s.fingerprint).join(',')}`;
+    const failed = this.state.failedTilesPx;
+    const key = `${inFrame.epsg}|${scenes.map((s) => `${s.fingerprint}:${failed.get(s.fingerprint)?.length ?? 0}`).join(',')}`;
     if (m.has(key)) return m.get(key)!;
     m.set(key, null);
     const masks = scenes.map((s) => ({
       geoTransform: s.info.georef.geoTransform, sceneEpsg: s.info.georef.epsg, sceneWidthPx: s.info.widthPx, sceneHeightPx: s.info.heightPx,
       ...s.description.mask,
+      failedTilesPx: failed.get(s.fingerprint),
     }));
     void this.tally.coverage(inFrame.polygons, inFrame.epsg, masks).then((r) => {
       if (!r.ok) { this.state.events.emit('notice', { level: 'error', text: r.error.message }); return; }

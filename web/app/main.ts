@@ -25,6 +25,7 @@ import { addArea, addHole, editArea } from './aoi-actions.ts';
 import { fetchDefaultModel } from './model-load.ts';
 import { fetchManifest, openDemo } from './demo.ts';
 import { readPageConfig } from './config.ts';
+import { installQuotaFault } from './faults.ts';
 import { CoverageService } from './coverage-service.ts';
 import { restoreKeptWork, restoreKeptScenes } from './restore.ts';
 import { toErrorInfo } from '../core/errors.ts';
@@ -32,6 +33,7 @@ import type { DateTally } from './tally.ts';
 
 async function main(): Promise<void> {
   const config = readPageConfig(location);
+  if (config.faults?.quota) installQuotaFault('tiles');
   const store = await WorkStore.open().catch(() => null);
   const state: AppState = createAppState(store);
   if (config.workers !== null) state.poolSize = config.workers;
@@ -42,7 +44,7 @@ async function main(): Promise<void> {
 
   const view = createMapView(layout.map);
   const layers = new SceneLayers(view);
-  const pool = new DetectorPool(state.poolSize);
+  const pool = new DetectorPool(state.poolSize, config.faults);
   const tally = spawnTally();
   const svc = { pool, layers };
   const aoiLayer = new AoiLayer(view, {
@@ -69,7 +71,7 @@ async function main(): Promise<void> {
   mountTallyPanel(state, layout.tabs.tally, new CoverageService(state, tally.api), (t) => { lastTally = t; });
   mountComparePanel(state, layout.tabs.compare, () => lastTally);
   mountReviewPanel(state, layout.tabs.check, { view, detections, layout });
-  mountTakeawayPanel(state, layout.tabs.takeaway, { view, getTally: () => lastTally });
+  mountTakeawayPanel(state, layout.tabs.takeaway, { view, getTally: () => lastTally, exportFails: config.faults?.exportFails ?? false });
   state.events.on('shown-date-changed', () => layers.showDate(state.shownDate));
   // The first scene switches the map into its CRS: redraw areas and detections in the new projection.
   view.map.on('change:view', () => { aoiLayer.render(state.aois); detections.rebuild(); });

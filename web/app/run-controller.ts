@@ -6,6 +6,7 @@ import type { TallyApi, TileDetections } from '../../workers/contract.ts';
 import type { Remote } from 'comlink';
 import { planRun, tileKey, type RunPlan } from './run-plan.ts';
 import type { RunRecord, TileRecord } from './store.ts';
+import type { TileTask } from '../../workers/contract.ts';
 import { toErrorInfo, fromErrorInfo } from '../core/errors.ts';
 
 const LIVE_MERGE_MS = 2000;
@@ -31,16 +32,46 @@ export class RunController {
     this.state.events.emit('run-progress');
   }
 
+  /**
+   * Keep something in IndexedDB without stopping the run when that fails (a full disk): the first failure of a run
+   * is reported as a notice (the store's sentence says what to do), later ones are not repeated.
+   */
+  private storeFailed = false;
+  private async keep(write: () => Promise<unknown> | undefined): Promise<void> {
+    try { await write(); } catch (err) {
+      if (this.storeFailed) return;
+      this.storeFailed = true;
+      this.state.events.emit('notice', { level: 'error', text: `${toErrorInfo(err).message} Until then this run goes on, but its results are not kept (a reload loses them).` });
+    }
+  }
+
+  /** A tile that failed for good: its core (scene pixels) counts as not imaged, and the analyst is told which. */
+  private tileFailed(task: TileTask, message: string): void {
+    const state = this.state;
+    const ps = this.plan?.dates.flatMap((d) => d.scenes).find((x) => x.scene.fingerprint === task.sceneKey);
+    const tile = ps?.plan.tiles[task.tileIndex];
+    if (ps && tile) {
+      const k = ps.plan.scale;
+      const box = { minXPx: tile.corePx.minXPx / k, minYPx: tile.corePx.minYPx / k, maxXPx: tile.corePx.maxXPx / k, maxYPx: tile.corePx.maxYPx / k };
+      state.failedTilesPx.set(task.sceneKey, [...(state.failedTilesPx.get(task.sceneKey) ?? []), box]);
+    }
+    this.progress({ tilesFailed: state.progress.tilesFailed + 1 });
+    const name = ps?.scene.name ?? task.sceneKey.slice(0, 8);
+    state.events.emit('notice', { level: 'error', text: `Tile ${task.tileIndex + 1} of ${name} failed: ${message}` });
+  }
+
   /** Start (or resume, when a kept run has the same key) a run of the current scenes, areas and model. */
   async start(): Promise<void> {
     if (this.abort) return;
     const state = this.state;
     const abort = new AbortController();
     this.abort = abort;
-    this.progress({ status: 'running', tilesDone: 0, tilesTotal: 0, tilesPerS: 0, startedMs: Date.now(), message: 'Planning tiles…' });
+    this.storeFailed = false;
+    this.progress({ status: 'running', tilesDone: 0, tilesTotal: 0, tilesFailed: 0, tilesPerS: 0, startedMs: Date.now(), message: 'Planning tiles…' });
     try {
       const plan = await planRun(state, this.svc.pool);
       this.plan = plan;
+      for (const d of plan.dates) for (const ps of d.scenes) state.failedTilesPx.delete(ps.scene.fingerprint);
       let run = await state.store?.latestRun(plan.key);
       this.tiles.clear();
       if (run) {
@@ -49,7 +80,7 @@ export class RunController {
         run = { id: `run-${Date.now().toString(36)}`, key: plan.key, status: 'running', tilesTotal: plan.tilesTotal, startedMs: Date.now() };
       }
       const runRec: RunRecord = { ...run, status: 'running', tilesTotal: plan.tilesTotal };
-      await state.store?.putRun(runRec);
+      await this.keep(() => state.store?.putRun(runRec));
       const todo = plan.tasks.filter((t) => !this.tiles.has(tileKey(t.sceneKey, t.tileIndex)));
       const resumed = plan.tilesTotal - todo.length;
       const t0 = performance.now();
@@ -61,7 +92,7 @@ export class RunController {
         const batch = pendingWrites;
         pendingWrites = [];
         lastWriteMs = performance.now();
-        await state.store?.putTiles(batch);
+        await this.keep(() => state.store?.putTiles(batch));
       };
       const msg = `${plan.tilesTotal} tiles${plan.tileShare < 1 ? ` (${Math.round(plan.tileShare * 100)} % of the scenes: areas only)` : ''}` +
         `${resumed ? `, ${resumed} kept from before` : ''} on ${this.svc.pool.size} worker${this.svc.pool.size > 1 ? 's' : ''}`;
@@ -81,13 +112,11 @@ export class RunController {
           if (performance.now() - this.lastMergeMs > LIVE_MERGE_MS && !this.merging) void this.mergeNow();
           if (this.opts.paceMs) await new Promise((r) => setTimeout(r, this.opts.paceMs));
         },
-        failed: (task, error) => {
-          state.events.emit('notice', { level: 'error', text: `Tile ${task.tileIndex} of ${task.sceneKey.slice(0, 8)}: ${error.message}` });
-        },
+        failed: (task, error) => this.tileFailed(task, error.message),
       }, abort.signal);
       await flush();
       if (abort.signal.aborted) {
-        await state.store?.putRun({ ...runRec, status: 'cancelled' });
+        await this.keep(() => state.store?.putRun({ ...runRec, status: 'cancelled' }));
         this.progress({ status: 'cancelled', message: `Stopped after ${this.state.progress.tilesDone} of ${plan.tilesTotal} tiles. Run again to resume.` });
         await this.mergeNow();
         return;
@@ -95,9 +124,11 @@ export class RunController {
       this.progress({ status: 'merging', message: 'Merging across tiles and scenes…' });
       await this.merging;
       await this.mergeNow();
-      await state.store?.putRun({ ...runRec, status: 'done' });
+      await this.keep(() => state.store?.putRun({ ...runRec, status: 'done' }));
       const s = (performance.now() - t0) / 1000;
-      this.progress({ status: 'done', message: `Done: ${plan.tilesTotal} tiles${resumed ? ` (${resumed} kept from before)` : ''}, ${doneHere} run now in ${s.toFixed(1)} s.` });
+      const failed = state.progress.tilesFailed;
+      this.progress({ status: 'done', message: `Done: ${plan.tilesTotal} tiles${resumed ? ` (${resumed} kept from before)` : ''}, ${doneHere} run now in ${s.toFixed(1)} s.` +
+        (failed ? ` ${failed} tile${failed > 1 ? 's' : ''} failed and ${failed > 1 ? 'are' : 'is'} left out of coverage: run again to retry.` : '') });
     } catch (err) {
       this.progress({ status: 'failed', message: '' });
       state.events.emit('notice', { level: 'error', text: toErrorInfo(err).message });

@@ -33,6 +33,7 @@ export function mountRunPanel(state: AppState, el: HTMLElement, runs: RunControl
       : '';
     stats.dataset.status = p.status;
     stats.dataset.done = String(p.tilesDone);
+    stats.dataset.failed = String(p.tilesFailed);
     message.textContent = p.message;
   };
   state.events.on('run-progress', render);

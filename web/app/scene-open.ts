@@ -5,6 +5,7 @@ import type { DetectorPool } from './worker-pool.ts';
 import type { SceneLayers } from './scene-layers.ts';
 import { fingerprintScene } from './fingerprint.ts';
 import { toErrorInfo, fromErrorInfo } from '../core/errors.ts';
+import { checkImageryUrl } from './egress.ts';
 
 /** Longest side of the overview picture drawn on the map. */
 const PREVIEW_LONG_SIDE_PX = 2048;
@@ -25,8 +26,10 @@ function nameOf(input: SceneInput): string {
  * Reopening a known scene (same fingerprint) re-attaches the file and keeps its date.
  */
 export async function openScene(state: AppState, svc: SceneServices, input: SceneInput, opts: { dateIso?: string } = {}): Promise<SceneEntry | null> {
-  const name = nameOf(input);
+  let name = input.kind === 'file' ? input.file.name : input.url;
   try {
+    if (input.kind === 'url') checkImageryUrl(input.url);
+    name = nameOf(input);
     const fingerprint = await fingerprintScene(input);
     const known = state.scenes.find((s) => s.fingerprint === fingerprint);
     if (known) {

@@ -1,5 +1,5 @@
 // The one app state: created in main.ts and passed to every panel; changes are announced on `events`.
-import type { DetectionTable, ReviewState } from '../core/types.ts';
+import type { DetectionTable, PixelBox, ReviewState } from '../core/types.ts';
 import type { SceneInfo } from '../core/scene-source.ts';
 import type { Aoi } from '../core/aoi.ts';
 import type { ModelSidecar } from '../core/model-contract.ts';
@@ -60,6 +60,8 @@ export interface RunProgress {
   status: 'idle' | 'running' | 'merging' | 'done' | 'cancelled' | 'failed';
   tilesDone: number;
   tilesTotal: number;
+  /** Tiles that failed for good in this run (reported; their area is left out of coverage). */
+  tilesFailed: number;
   startedMs: number;
   /** Tiles per second over the last few seconds. */
   tilesPerS: number;
@@ -88,6 +90,8 @@ export interface AppState {
   selection: { dateIso: string; row: number } | null;
   /** Date whose scenes and detections the map shows (null = all). */
   shownDate: string | null;
+  /** Per scene fingerprint, cores of tiles that failed in the last run (scene pixels): not imaged for coverage. */
+  failedTilesPx: Map<string, PixelBox[]>;
 }
 
 /** The state at page start (nothing loaded yet). */
@@ -101,13 +105,14 @@ export function createAppState(store: WorkStore | null): AppState {
     poolSize: Math.max(1, Math.min(8, navigator.hardwareConcurrency || 2)),
     areasOnly: false,
     minScore: 0.5,
-    progress: { status: 'idle', tilesDone: 0, tilesTotal: 0, startedMs: 0, tilesPerS: 0, message: '' },
+    progress: { status: 'idle', tilesDone: 0, tilesTotal: 0, tilesFailed: 0, startedMs: 0, tilesPerS: 0, message: '' },
     results: [],
     review: new Map(),
     added: [],
     reviewVersion: 0,
     selection: null,
     shownDate: null,
+    failedTilesPx: new Map(),
   };
 }
 

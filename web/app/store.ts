@@ -55,8 +55,9 @@ export class WorkStore {
     return new WorkStore(db);
   }
 
-  private async guard<T>(p: Promise<T>): Promise<T> {
-    try { return await p; } catch (err) {
+  /** Run a write; a full disk (QuotaExceededError, thrown at once or when the transaction ends) becomes a sentence. */
+  private async guard<T>(write: () => Promise<T>): Promise<T> {
+    try { return await write(); } catch (err) {
       if (err instanceof DOMException && err.name === 'QuotaExceededError') {
         throw new SeamtallyError('storage-quota', 'The browser has no room left to keep your work. Free disk space or clear old runs (Take away → Forget kept work), then try again.');
       }
@@ -65,11 +66,11 @@ export class WorkStore {
   }
 
   allAois(): Promise<AoiRecord[]> { return this.db.getAll('aois'); }
-  putAoi(a: AoiRecord): Promise<string> { return this.guard(this.db.put('aois', a)); }
+  putAoi(a: AoiRecord): Promise<string> { return this.guard(() => this.db.put('aois', a)); }
   deleteAoi(id: string): Promise<void> { return this.db.delete('aois', id); }
 
   allScenes(): Promise<SceneRecord[]> { return this.db.getAll('scenes'); }
-  putScene(s: SceneRecord): Promise<string> { return this.guard(this.db.put('scenes', s)); }
+  putScene(s: SceneRecord): Promise<string> { return this.guard(() => this.db.put('scenes', s)); }
   deleteScene(fingerprint: string): Promise<void> { return this.db.delete('scenes', fingerprint); }
 
   async latestRun(key: string): Promise<RunRecord | undefined> {
@@ -79,20 +80,22 @@ export class WorkStore {
   async lastRun(): Promise<RunRecord | undefined> {
     return (await this.db.getAll('runs')).sort((a, b) => b.startedMs - a.startedMs)[0];
   }
-  putRun(r: RunRecord): Promise<string> { return this.guard(this.db.put('runs', r)); }
-  putTile(t: TileRecord): Promise<[string, string]> { return this.guard(this.db.put('tiles', t)); }
+  putRun(r: RunRecord): Promise<string> { return this.guard(() => this.db.put('runs', r)); }
+  putTile(t: TileRecord): Promise<[string, string]> { return this.guard(() => this.db.put('tiles', t)); }
   /** Keep several finished tiles in one transaction. */
   async putTiles(ts: TileRecord[]): Promise<void> {
     if (ts.length === 0) return;
-    const tx = this.db.transaction('tiles', 'readwrite');
-    await this.guard(Promise.all([...ts.map((t) => tx.store.put(t)), tx.done]).then(() => undefined));
+    await this.guard(async () => {
+      const tx = this.db.transaction('tiles', 'readwrite');
+      await Promise.all([...ts.map((t) => tx.store.put(t)), tx.done]);
+    });
   }
   tilesOf(runId: string): Promise<TileRecord[]> { return this.db.getAllFromIndex('tiles', 'byRun', runId); }
 
   allReview(): Promise<ReviewRecord[]> { return this.db.getAll('review'); }
-  putReview(r: ReviewRecord): Promise<string> { return this.guard(this.db.put('review', r)); }
+  putReview(r: ReviewRecord): Promise<string> { return this.guard(() => this.db.put('review', r)); }
   allAdded(): Promise<AddedBox[]> { return this.db.getAll('added'); }
-  putAdded(a: AddedBox): Promise<string> { return this.guard(this.db.put('added', a)); }
+  putAdded(a: AddedBox): Promise<string> { return this.guard(() => this.db.put('added', a)); }
   deleteAdded(id: string): Promise<void> { return this.db.delete('added', id); }
 
   /** Forget runs, tiles and review (areas and scenes stay). */

@@ -10,23 +10,43 @@ import { buildReport } from './report.ts';
 import { cautionLines } from './cautions.ts';
 import { toErrorInfo } from '../core/errors.ts';
 
-export interface TakeawayServices { view: MapView; getTally: () => DateTally[] }
+export interface TakeawayServices {
+  view: MapView;
+  getTally: () => DateTally[];
+  /** Test-only (`?fault=export`): building any export fails after its content is half made. */
+  exportFails?: boolean;
+}
 
 /** Render the export tab into `el`. */
 export function mountTakeawayPanel(state: AppState, el: HTMLElement, svc: TakeawayServices): void {
   const guarded = (fn: () => void | Promise<void>) => async () => {
     try { await fn(); } catch (err) { state.events.emit('notice', { level: 'error', text: toErrorInfo(err).message }); }
   };
+  /**
+   * An export is written whole or not at all: the whole text is built in memory first and only then handed to the
+   * browser as one Blob download, so a failure while building (e.g. out of memory) leaves no partial file.
+   */
+  const whole = (fileName: string, type: string, build: () => string | Promise<string>) => async (): Promise<string | null> => {
+    let text: string;
+    try {
+      text = await build();
+      if (svc.exportFails) throw new Error('injected failure half-way through the export (?fault=export)');
+    } catch (err) {
+      state.events.emit('notice', { level: 'error', text: `${fileName} was not written, and no part of it was saved (${toErrorInfo(err).message.replace(/\.$/, '')}): close other tabs to free memory and export again.` });
+      return null;
+    }
+    download(fileName, text, type);
+    return text;
+  };
   el.append(
     h('p.muted', {}, 'Every export carries the counting rule, the score threshold in force and each detection\'s review state.'),
-    h('div.row', {}, h('button', { dataset: { testid: 'export-geojson' }, onclick: guarded(() =>
-      download('detections.geojson', JSON.stringify(detectionsGeoJson(state)), 'application/geo+json')) }, 'Detections (GeoJSON)')),
-    h('div.row', {}, h('button', { dataset: { testid: 'export-csv' }, onclick: guarded(() =>
-      download('counts.csv', countsCsv(svc.getTally()), 'text/csv')) }, 'Counts (CSV)')),
-    h('div.row', {}, h('button', { onclick: guarded(() => download('areas.geojson', exportAreas(state), 'application/geo+json')) }, 'Areas (GeoJSON)')),
+    h('div.row', {}, h('button', { dataset: { testid: 'export-geojson' }, onclick: whole('detections.geojson', 'application/geo+json',
+      () => JSON.stringify(detectionsGeoJson(state))) }, 'Detections (GeoJSON)')),
+    h('div.row', {}, h('button', { dataset: { testid: 'export-csv' }, onclick: whole('counts.csv', 'text/csv', () => countsCsv(svc.getTally())) }, 'Counts (CSV)')),
+    h('div.row', {}, h('button', { onclick: whole('areas.geojson', 'application/geo+json', () => exportAreas(state)) }, 'Areas (GeoJSON)')),
     h('div.row', {}, h('button.primary', { dataset: { testid: 'export-report' }, onclick: guarded(async () => {
-      const html = await buildReport(state, svc.view, svc.getTally());
-      download('seamtally-report.html', html, 'text/html');
+      const html = await whole('seamtally-report.html', 'text/html', () => buildReport(state, svc.view, svc.getTally()))();
+      if (html === null) return;
       const w = window.open(URL.createObjectURL(new Blob([html], { type: 'text/html' })), '_blank');
       if (!w) state.events.emit('notice', { level: 'info', text: 'The report was downloaded; open it and print it (one page).' });
     }) }, 'Printable report')),

@@ -45,7 +45,7 @@ export function mountTallyPanel(state: AppState, el: HTMLElement, coverage: Cove
         h('thead', {}, h('tr', {}, ...headers.map(([t, title], i) => h(i < 2 || i === 9 ? 'th.l' : 'th', { title }, t)))),
         h('tbody', {}, ...tally.flatMap((d) => [
           h('tr.datehead', {}, h('td.l', { colSpan: headers.length }, `${d.dateIso} · ${fmt(d.gsdM, 2)} m GSD · ${d.sceneNames.length} scene${d.sceneNames.length > 1 ? 's' : ''}`)),
-          ...d.rows.map((r) => h('tr', { dataset: { aoi: r.aoiName, date: r.date, cls: r.className, count: String(r.count), detected: String(r.detectedCount), reviewed: String(r.reviewedCount) } },
+          ...d.rows.map((r) => h('tr', { dataset: { aoi: r.aoiName, date: r.date, cls: r.className, count: String(r.count), detected: String(r.detectedCount), reviewed: String(r.reviewedCount), coverage: String(r.coverage) } },
             h('td.l', {}, r.aoiName), h(`td.l.cls-${r.className}`, {}, r.className),
             h('td', {}, h('b', {}, String(r.count))), h('td', {}, String(r.detectedCount)), h('td', {}, String(r.reviewedCount)),
             h('td', {}, `${fmt(r.interval.lower, 1)}–${fmt(r.interval.upper, 1)}`),

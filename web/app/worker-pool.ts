@@ -1,14 +1,20 @@
 // The detector worker pool: N workers (default navigator.hardwareConcurrency), each with the model loaded,
-// fed one tile at a time from a shared queue; a worker that dies is replaced and its tile retried.
+// fed one tile at a time from a shared queue; a worker that dies or hangs is replaced and its tile retried
+// (bounded), after which the tile is reported failed — every task ends in exactly one of done / failed.
 import type { Remote } from 'comlink';
 import type { DetectorApi, TileDetections, TileTask } from '../../workers/contract.ts';
 import { spawnDetector, type WorkerHandle } from '../../workers/spawn.ts';
 import type { ModelEntry } from './state.ts';
-import { fromErrorInfo, SeamtallyError, type ErrorInfo } from '../core/errors.ts';
+import type { FaultPlan } from './faults.ts';
+import { fromErrorInfo, SeamtallyError, type ErrorInfo, type Result } from '../core/errors.ts';
 
 interface Slot { handle: WorkerHandle<DetectorApi>; modelReady: Promise<void> | null }
+interface QueueItem { task: TileTask; attempts: number; ordinal: number }
 
-const MAX_TILE_ATTEMPTS = 3;
+/** Tries per tile: the first and two retries. */
+export const MAX_TILE_ATTEMPTS = 3;
+/** A worker that has not answered a tile in this long is taken as hung, replaced, and the tile retried. */
+const TILE_TIMEOUT_MS = 120_000;
 
 /** Outcome callbacks of `runTasks`. */
 export interface PoolCallbacks {
@@ -23,7 +29,8 @@ export class DetectorPool {
   /** Threads per worker reported by the last model load. */
   threadsPerWorker = 1;
 
-  constructor(size: number) { this.resize(size); }
+  /** `faults`: test-only fault injection (null unless the page was opened with `?fault=`). */
+  constructor(size: number, private faults: FaultPlan | null = null) { this.resize(size); }
 
   get size(): number { return this.slots.length; }
 
@@ -31,53 +38,93 @@ export class DetectorPool {
   resize(size: number): void {
     const n = Math.max(1, Math.floor(size));
     while (this.slots.length > n) this.slots.pop()!.handle.terminate();
-    while (this.slots.length < n) this.slots.push({ handle: spawnDetector(`seamtally-detector-${this.seq++}`), modelReady: null });
-    if (this.model) for (const s of this.slots) if (!s.modelReady) s.modelReady = this.loadInto(s, this.model);
+    while (this.slots.length < n) this.slots.push(this.newSlot());
+  }
+
+  private newSlot(): Slot {
+    const slot: Slot = { handle: spawnDetector(`seamtally-detector-${this.seq++}`), modelReady: null };
+    if (this.model) slot.modelReady = this.loadInto(slot, this.model);
+    return slot;
   }
 
   /** Any worker, for one-off jobs (describe a scene, draw a preview). */
   any(): Remote<DetectorApi> { return this.slots[0].handle.api; }
 
-  /** Load `model` into every worker; rejects with the first worker's validation error. */
+  /** Load `model` into every worker; rejects with the first worker's validation error and keeps the previous model. */
   async setModel(model: ModelEntry): Promise<void> {
+    const previous = this.model;
     this.model = model;
     for (const s of this.slots) s.modelReady = this.loadInto(s, model);
-    await Promise.all(this.slots.map((s) => s.modelReady));
+    try {
+      await Promise.all(this.slots.map((s) => s.modelReady));
+    } catch (err) {
+      this.model = previous;
+      for (const s of this.slots) s.modelReady = previous ? this.loadInto(s, previous) : null;
+      throw err;
+    }
   }
 
   private async loadInto(slot: Slot, model: ModelEntry): Promise<void> {
     const threads = self.crossOriginIsolated ? Math.max(1, Math.floor((navigator.hardwareConcurrency || 1) / this.slots.length)) : 1;
-    const r = await slot.handle.api.loadModel(model.bytes.slice(0), model.sidecar, { numThreads: threads });
+    const r = await Promise.race([slot.handle.api.loadModel(model.bytes.slice(0), model.sidecar, { numThreads: threads }), slot.handle.lost]);
     if (!r.ok) throw fromErrorInfo(r.error);
     this.threadsPerWorker = r.value.numThreads;
+  }
+  /** The task as sent for this attempt (test-only faults attached under `?fault=`). */
+  private attemptOf(item: QueueItem): TileTask {
+    const f = this.faults;
+    if (!f) return item.task;
+    if (f.crashAt.has(item.ordinal)) return { ...item.task, fault: 'crash' };
+    if (f.throwAt.has(item.ordinal) && item.attempts === 1) return { ...item.task, fault: 'throw' };
+    return item.task;
+  }
+
+  /** One tile on one worker; rejects when the worker is lost, hangs, or the run is aborted. */
+  private async callTile(slot: Slot, item: QueueItem, aborted: Promise<never>): Promise<Result<TileDetections>> {
+    let timer: ReturnType<typeof setTimeout> | undefined;
+    const hung = new Promise<never>((_, reject) => {
+      timer = setTimeout(() => reject(new Error(`no answer within ${TILE_TIMEOUT_MS / 1000} s`)), TILE_TIMEOUT_MS);
+    });
+    try {
+      await Promise.race([slot.modelReady, slot.handle.lost, hung, aborted]);
+      const call = slot.handle.api.detectTile(this.attemptOf(item));
+      if (this.faults?.killAt.has(item.ordinal) && item.attempts === 1) setTimeout(() => slot.handle.terminate(), 20);
+      return await Promise.race([call, slot.handle.lost, hung, aborted]);
+    } finally {
+      clearTimeout(timer);
+    }
   }
 
   /** Run tasks on all workers until the queue is empty or `signal` aborts. Each task ends in done or failed. */
   async runTasks(tasks: TileTask[], cb: PoolCallbacks, signal: AbortSignal): Promise<void> {
     if (!this.model) throw new SeamtallyError('model-invalid', 'No detector is loaded: load one before running.');
-    const queue = tasks.map((task) => ({ task, attempts: 0 }));
+    const queue: QueueItem[] = tasks.map((task) => ({ task, attempts: 0, ordinal: 0 }));
+    let dispatched = 0;
+    const aborted = new Promise<never>((_, reject) => signal.addEventListener('abort', () => reject(new Error('aborted')), { once: true }));
+    aborted.catch(() => {});
     const runSlot = async (idx: number) => {
       while (queue.length > 0 && !signal.aborted) {
         const item = queue.shift()!;
         const slot = this.slots[idx];
         if (!slot) { queue.unshift(item); return; }
         item.attempts++;
+        if (item.attempts === 1) item.ordinal = ++dispatched;
+        let r: Result<TileDetections>;
         try {
-          await slot.modelReady;
-          const r = await slot.handle.api.detectTile(item.task);
-          if (r.ok) { await cb.done(item.task, r.value); continue; }
-          if (r.error.kind === 'cancelled') return;
-          if (r.error.kind === 'internal' && item.attempts < MAX_TILE_ATTEMPTS) { queue.push(item); continue; }
-          cb.failed(item.task, r.error);
+          r = await this.callTile(slot, item, aborted);
         } catch (err) {
-          // The worker itself broke (crash, out of memory): replace it and retry the tile a bounded number of times.
+          // The worker itself broke (crash, killed, out of memory, hung): replace it and retry the tile, bounded.
           if (signal.aborted) return;
           slot.handle.terminate();
-          this.slots[idx] = { handle: spawnDetector(`seamtally-detector-${this.seq++}`), modelReady: null };
-          this.slots[idx].modelReady = this.model ? this.loadInto(this.slots[idx], this.model) : null;
+          this.slots[idx] = this.newSlot();
           if (item.attempts < MAX_TILE_ATTEMPTS) queue.push(item);
-          else cb.failed(item.task, { kind: 'internal', message: `A tile failed ${MAX_TILE_ATTEMPTS} times (${String(err)}); its area is left out of coverage.`, detail: {} });
+          else cb.failed(item.task, { kind: 'internal', message: `its worker failed ${MAX_TILE_ATTEMPTS} times (last: ${err instanceof Error ? err.message : String(err)}), so this tile is counted as not imaged: its area is left out of coverage. Run again to retry it.`, detail: {} });
+          continue;
         }
+        if (r.ok) { await cb.done(item.task, r.value); continue; }
+        if (r.error.kind === 'cancelled' && signal.aborted) return;
+        if (r.error.kind === 'internal' && item.attempts < MAX_TILE_ATTEMPTS) { queue.push(item); continue; }
+        cb.failed(item.task, r.error);
       }
     };
     const onAbort = () => { for (const s of this.slots) void s.handle.api.cancel(tasks[0]?.runId ?? ''); };

@@ -20,7 +20,17 @@ export interface AoiInCrs {
 }
 
 type Json = Record<string, unknown>;
+/** AOI ids and names are cut to this many characters (they appear in messages, tables and exports). */
+const MAX_NAME_CHARS = 200;
 const isObj = (v: unknown): v is Json => typeof v === 'object' && v !== null && !Array.isArray(v);
+
+/** A value as a short JSON excerpt for a message (untrusted input can be megabytes long). */
+function short(v: unknown, maxChars = 60): string {
+  let text: string | undefined;
+  try { text = JSON.stringify(v); } catch { text = undefined; }
+  text ??= typeof v;
+  return text.length > maxChars ? `${text.slice(0, maxChars - 1)}…` : text;
+}
 
 function invalid(message: string, detail: Record<string, unknown> = {}): SeamtallyError {
   return new SeamtallyError('aoi-invalid', message, detail);
@@ -54,14 +64,16 @@ export function parseAois(input: unknown): Aoi[] {
   const aois: Aoi[] = [];
   features.forEach((f, i) => {
     const props = isObj(f.properties) ? f.properties : {};
-    const id = String(f.id ?? props.id ?? `aoi-${i + 1}`);
-    const name = typeof props.name === 'string' && props.name.trim() ? props.name.trim() : id;
+    const rawId = f.id ?? props.id;
+    const id = typeof rawId === 'string' || typeof rawId === 'number' ? String(rawId).slice(0, MAX_NAME_CHARS) : `aoi-${i + 1}`;
+    const name = typeof props.name === 'string' && props.name.trim() ? props.name.trim().slice(0, MAX_NAME_CHARS) : id;
     const g = f.geometry;
     if (!isObj(g)) throw invalid(`AOI "${name}" has no geometry: draw or export it again as a Polygon.`, { id });
     let polys: unknown[];
     if (g.type === 'Polygon') polys = [g.coordinates];
     else if (g.type === 'MultiPolygon') polys = Array.isArray(g.coordinates) ? g.coordinates : [];
-    else throw invalid(`AOI "${name}" is a ${String(g.type)}, but AOIs must be Polygon or MultiPolygon areas: draw it as a polygon.`, { id });
+    else if (typeof g.type === 'string') throw invalid(`AOI "${name}" is a ${g.type.slice(0, 40)}, but AOIs must be Polygon or MultiPolygon areas: draw it as a polygon.`, { id });
+    else throw invalid(`AOI "${name}" has a geometry without a "type" (it must be "Polygon" or "MultiPolygon"): export it again as GeoJSON.`, { id });
     const aoi: Aoi = { id, name, polygonsLonLat: polys.map((p, k) => readPolygon(p, name, k)) };
     validateAoi(aoi);
     aois.push(aoi);
@@ -90,7 +102,7 @@ function readPolygon(p: unknown, name: string, k: number): LonLatDeg[][] {
     const out: LonLatDeg[] = [];
     for (const pos of ring) {
       if (!Array.isArray(pos) || pos.length < 2 || typeof pos[0] !== 'number' || typeof pos[1] !== 'number' || !Number.isFinite(pos[0]) || !Number.isFinite(pos[1])) {
-        throw invalid(`AOI "${name}" has a position that is not a pair of numbers (${JSON.stringify(pos)}): fix the file.`);
+        throw invalid(`AOI "${name}" has a position that is not a pair of numbers (${short(pos)}): fix the file.`);
       }
       const prev = out[out.length - 1];
       if (!prev || prev[0] !== pos[0] || prev[1] !== pos[1]) out.push([pos[0], pos[1]]);

@@ -7,6 +7,7 @@ import { pixelToMap } from './geotransform.ts';
 import type { ModelSidecar } from './model-contract.ts';
 import { computeStretch, joinSamples, normaliseInPlace, readStretchSample, selectBands, type BandSelection, type Stretch, type StretchOptions } from './radiometry.ts';
 import { planResample, resampleBand } from './resample.ts';
+import { fillUnit, isContiguousUnit } from './fill-unit.ts';
 import type { RasterWindow, SceneSource } from './scene-source.ts';
 import { keepCoreCentres } from './seam-merge.ts';
 import { planTiles, type PlannedTile, type TilePlan } from './tiling.ts';
@@ -145,8 +146,12 @@ export function fillTensor(p: ScenePipeline, tile: PlannedTile, win: RasterWindo
   const rp = planResample(wm, win.windowPx, { scenePxPerModelPxX: f, scenePxPerModelPxY: f }, p.plan.sceneWidthPx, p.plan.sceneHeightPx);
   const dense = ow === T && oh === T;
   const { tensor, valid } = scratch;
-  if (!dense) valid.fill(0);
   const idx = p.bands.indices;
+  if (dense && isContiguousUnit(rp)) {
+    const src = [win.bands[idx[0]], win.bands[idx[1]], win.bands[idx[2]]];
+    return fillUnit(src, win.windowPx.maxXPx - win.windowPx.minXPx, rp, T, win.nodata, p.stretch, p.sidecar.input, tensor, valid);
+  }
+  if (!dense) valid.fill(0);
   for (let c = 0; c < 3; c++) {
     const dstPlane = tensor.subarray(c * plane, (c + 1) * plane);
     if (c > 0 && idx[c] === idx[c - 1] && dense) { dstPlane.set(tensor.subarray((c - 1) * plane, c * plane)); continue; }

@@ -82,7 +82,7 @@ export function lzwBlockBytes(p: LzwParams): number {
 }
 
 export class BoundedLzwDecoder extends BaseDecoder {
-  decodeBlock(buffer: ArrayBuffer): ArrayBuffer {
+  override decodeBlock(buffer: ArrayBuffer): ArrayBuffer {
     const out = decodeLzw(new Uint8Array(buffer), lzwBlockBytes((this as unknown as { parameters: LzwParams }).parameters));
     return out.buffer.slice(0, out.length) as ArrayBuffer;
   }

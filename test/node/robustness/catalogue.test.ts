@@ -5,10 +5,10 @@
 // 2. the CLI command's run() in process: a SeamtallyError of the entry's kind within CASE_MS, or success;
 // 3. for scene entries, the page's path (openGeoTiffBlob → prepareScene → first tile into the model tensor).
 import { execFile } from 'node:child_process';
-import { mkdtempSync, readFileSync } from 'node:fs';
+import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { basename, join } from 'node:path';
-import { beforeAll, describe, expect, it } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { run } from '../../../cli/detect.ts';
 import { SeamtallyError } from '../../../web/core/errors.ts';
 import { parseSidecar } from '../../../web/core/model-contract.ts';
@@ -23,6 +23,7 @@ const CASE_MS = 10_000;
 /** Subprocesses at once: the box has 2 cores; each run is mostly Node + tsx + onnxruntime start-up (~0.5 s CPU). */
 const CONCURRENCY = 2;
 const dir = mkdtempSync(join(tmpdir(), 'seamtally-robust-'));
+afterAll(() => rmSync(dir, { recursive: true, force: true }));
 const all = [CONTROL, ...BAD_INPUTS];
 const paths = new Map<string, BadInputPaths>();
 

@@ -1,10 +1,10 @@
 // Fuzz: the first KB of small GDAL-written GeoTIFFs mutated at random (fixed seed, xorshift32), each case opened
 // through the page's Blob path (openGeoTiffBlob) and read (a window at full resolution and at the first overview).
 // Every case must end in a result or a SeamtallyError (no TypeError/RangeError leaking, no 'internal') within 5 s.
-import { mkdtempSync, readFileSync } from 'node:fs';
+import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { beforeAll, describe, expect, it } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { SeamtallyError } from '../../../web/core/errors.ts';
 import { openGeoTiffBlob } from '../../../web/io/geotiff-source.ts';
 import { baseGeo } from '../../fixtures/bad-input-assets.ts';
@@ -16,7 +16,8 @@ const CASES_PER_BASE = Number(process.env.FUZZ_CASES ?? 100);
 const CASE_MS = 5_000;
 const SEED = Number(process.env.FUZZ_SEED ?? 0x5eed7);
 const dir = mkdtempSync(join(tmpdir(), 'seamtally-fuzz-tiff-'));
-const bases: { name: string; bytes: Uint8Array }[] = [];
+afterAll(() => rmSync(dir, { recursive: true, force: true }));
+const bases: { name: string; bytes: Uint8Array<ArrayBuffer> }[] = [];
 
 beforeAll(() => {
   const w = 48, h = 40;
@@ -28,7 +29,7 @@ beforeAll(() => {
     baseGeo({ blockPx: undefined, compress: 'LZW', extraArgs: ['-co', 'PREDICTOR=2', '-co', 'BLOCKYSIZE=7'] })))) });
 });
 
-async function openAndRead(bytes: Uint8Array): Promise<string> {
+async function openAndRead(bytes: Uint8Array<ArrayBuffer>): Promise<string> {
   const src = await openGeoTiffBlob(new Blob([bytes]), { name: 'fuzz.tif' });
   try {
     const { widthPx, heightPx, overviews } = src.info;

@@ -7,8 +7,8 @@ const HEAD_BYTES = 4096;
 const INTERESTING = [0, 1, 2, 3, 7, 8, 16, 255, 256, 0x7fff, 0x8000, 0xffff, 0x10000, 0x7fffffff, 0x80000000, 0xffffffff];
 
 /** One mutated copy: 1–3 of bit flips, random bytes, interesting values in IFD fields or anywhere, a cut, a zeroed run. */
-export function mutateTiff(src: Uint8Array, rng: Rng): { bytes: Uint8Array; what: string[] } {
-  let b = src.slice();
+export function mutateTiff(src: Uint8Array, rng: Rng): { bytes: Uint8Array<ArrayBuffer>; what: string[] } {
+  let b = new Uint8Array(src); // a copy: Buffer.slice would share memory
   const what: string[] = [];
   const head = Math.min(b.length, HEAD_BYTES);
   const { entries, le } = ifdEntries(src);

@@ -1,0 +1,43 @@
+// Child process of the bench: one scene through the CLI's pipeline (onnxruntime-node) — prints one JSON line with
+// throughput, the per-tile split, the merge time, decoded-tile cache figures and this process's peak RSS.
+// Usage: node --import tsx bench/cli-run.ts SCENE.tif MODEL.onnx [--tiles N] [--tile PX] [--threads N] [--prefetch]
+import { readFileSync, statSync } from 'node:fs';
+import { parseArgs } from 'node:util';
+import { parseSidecar } from '../web/core/model-contract.ts';
+import { prepareScene, runScene } from '../web/core/pipeline.ts';
+import { mergeDetectionTables } from '../web/core/seam-merge.ts';
+import { openGeoTiffPath, sourceCacheStats } from '../web/io/geotiff-source.ts';
+import { openNodeModel } from '../web/io/ort-node.ts';
+import { centredBlock, tileScenePx } from './tile-subset.ts';
+
+const { positionals, values } = parseArgs({
+  allowPositionals: true,
+  options: { tiles: { type: 'string' }, tile: { type: 'string' }, threads: { type: 'string' }, prefetch: { type: 'boolean' }, warmup: { type: 'string' } },
+});
+const [scenePath, modelPath] = positionals;
+const sidecar = parseSidecar(readFileSync(modelPath.replace(/\.onnx$/, '.model.json'), 'utf8'));
+const tilePx = values.tile ? Number(values.tile) : undefined;
+const model = await openNodeModel(new Uint8Array(readFileSync(modelPath)), sidecar, { threads: Number(values.threads ?? 1), tilePx });
+const src = await openGeoTiffPath(scenePath, { byteLength: statSync(scenePath).size });
+const p = await prepareScene(src, 0, sidecar, { tilePx });
+const want = values.tiles ? Number(values.tiles) : 0;
+const tiles = want > 0 ? centredBlock(p.plan, want) : p.plan.tiles;
+// warm-up: the first inferences allocate onnxruntime's arena; not counted
+const warm = Number(values.warmup ?? 2);
+if (warm > 0) await runScene(p, model.infer, { tiles: tiles.slice(0, warm), prefetch: false });
+const r = await runScene(p, model.infer, { tiles, prefetch: values.prefetch ?? false });
+const t0 = performance.now();
+const merged = mergeDetectionTables(r.tables);
+const mergeMs = performance.now() - t0;
+let scenePx = 0;
+for (const t of tiles) scenePx += tileScenePx(p.plan, t);
+const ru = process.resourceUsage();
+process.stdout.write(JSON.stringify({
+  scene: src.info.name, widthPx: src.info.widthPx, heightPx: src.info.heightPx,
+  tilePx: p.plan.tilePx, overlapPx: p.plan.overlapPx, planTiles: p.plan.tiles.length, overheadRatio: p.plan.overheadRatio,
+  tiles: tiles.length, tilesRun: r.tilesRun, tilesSkipped: r.tilesSkipped, scenePx,
+  elapsedMs: r.elapsedMs, timings: r.timings, mergeMs, detections: merged.count,
+  cache: sourceCacheStats(src), peakRssB: ru.maxRSS * 1024, cpuUserMs: ru.userCPUTime / 1000,
+}) + '\n');
+await model.close();
+await src.close();

@@ -1,0 +1,99 @@
+// `npm run bench`: CLI (onnxruntime-node, 1 thread) and browser (chromium, onnxruntime-web WASM SIMD) end to end on
+// cached synthetic scenes, merge scaling, page responsiveness; writes bench/results.json and prints a table.
+// Options: --quick (fewer tiles, no whole-scene CLI runs), --big (16 000² instead of 8 000²), --tiles N (block size
+// for per-tile figures), --model FILE.onnx, --no-browser, --no-app, --smoke (tiny scenes, seconds; for CI).
+import { spawnSync } from 'node:child_process';
+import { mkdirSync, writeFileSync } from 'node:fs';
+import { resolve, join } from 'node:path';
+import { parseArgs } from 'node:util';
+import { cpus, loadavg } from 'node:os';
+import { mergeDetectionTables } from '../web/core/seam-merge.ts';
+import { makeMergeTables, totalRows } from './merge-data.ts';
+import { ensureScene, writeAppManifest, CACHE_DIR } from './scenes.ts';
+import { appRun, browserMerge, browserTiles, haveChromium, startVite } from './browser.ts';
+import { figures, printTable, type CliRun, type BenchRaw } from './report.ts';
+
+const REPO = resolve(import.meta.dirname, '..');
+const { values } = parseArgs({
+  options: {
+    quick: { type: 'boolean' }, big: { type: 'boolean' }, tiles: { type: 'string' }, model: { type: 'string' },
+    'no-browser': { type: 'boolean' }, 'no-app': { type: 'boolean' }, smoke: { type: 'boolean' }, out: { type: 'string' },
+    port: { type: 'string' },
+  },
+});
+const smoke = values.smoke ?? false;
+const quick = (values.quick ?? false) || smoke;
+const log = (s: string) => process.stderr.write(`[bench] ${s}\n`);
+const modelPath = resolve(REPO, values.model ?? 'models/seamtally-det.onnx');
+const sizes = smoke ? [1024, 2048] : [4000, values.big ? 16000 : 8000];
+const blockTiles = Number(values.tiles ?? (smoke ? 4 : quick ? 16 : 36));
+const mergeNs = smoke ? [10_000, 100_000] : [100_000, 1_000_000];
+const outPath = resolve(REPO, values.out ?? 'bench/results.json');
+
+function cliRun(tif: string, tiles: number): CliRun {
+  const args = ['--import', 'tsx', join(REPO, 'bench/cli-run.ts'), tif, modelPath, '--threads', '1'];
+  if (tiles > 0) args.push('--tiles', String(tiles));
+  const r = spawnSync(process.execPath, args, { cwd: REPO, encoding: 'utf8', maxBuffer: 1 << 24 });
+  if (r.status !== 0) throw new Error(`bench/cli-run.ts failed on ${tif}: ${r.stderr}`);
+  return JSON.parse(r.stdout.trim().split('\n').pop()!) as CliRun;
+}
+
+const started = performance.now();
+const raw: BenchRaw = {
+  when: new Date().toISOString(), mode: smoke ? 'smoke' : quick ? 'quick' : 'default', sizes, blockTiles, model: modelPath.replace(`${REPO}/`, ''),
+  machine: { cpus: cpus().length, cpuModel: cpus()[0]?.model ?? '', loadAvgStart: loadavg() },
+  cli: { block: {}, full: {} }, browser: {}, merge: { node: [], browser: [] }, app: null,
+};
+const scenes = sizes.map((s) => ensureScene(s, log));
+
+for (const [k, tif] of scenes.entries()) {
+  const key = String(sizes[k]);
+  log(`CLI ${key}²: ${blockTiles}-tile block…`);
+  raw.cli.block[key] = cliRun(tif, blockTiles);
+  if (!quick) {
+    log(`CLI ${key}²: whole scene…`);
+    raw.cli.full[key] = cliRun(tif, 0);
+  }
+}
+
+log(`merge in Node: ${mergeNs.join(', ')} detections…`);
+mergeDetectionTables(makeMergeTables(20_000)); // JIT warm-up
+for (const n of mergeNs) {
+  const tables = makeMergeTables(n);
+  const t0 = performance.now();
+  const m = mergeDetectionTables(tables);
+  raw.merge.node.push({ n: totalRows(tables), ms: performance.now() - t0, kept: m.count });
+}
+
+if (!values['no-browser'] && haveChromium()) {
+  const server = await startVite(Number(values.port ?? 5187), CACHE_DIR);
+  try {
+    for (const [k, tif] of scenes.entries()) {
+      const key = String(sizes[k]);
+      const file = tif.split('/').pop();
+      log(`browser ${key}²: ${blockTiles} tiles on 1 worker, then 2…`);
+      const spec = { sceneUrl: `/demo/${file}`, modelUrl: `/models/${modelPath.split('/').pop()}`, sidecarUrl: `/models/${modelPath.split('/').pop()!.replace(/\.onnx$/, '.model.json')}`, tiles: blockTiles };
+      if (!modelPath.startsWith(join(REPO, 'models/'))) log('warning: the browser loads models from models/ only; using the file of that name there');
+      raw.browser[key] = await browserTiles(server, [{ ...spec, workers: 1 }, { ...spec, workers: 2 }]);
+    }
+    log('merge in the browser (tally worker)…');
+    raw.merge.browser = await browserMerge(server, mergeNs);
+    if (!values['no-app']) {
+      const manifest = await writeAppManifest(scenes[0], smoke ? 0.3 : quick ? 0.12 : 0.25);
+      log(`app run (${manifest}, areas only, 2 workers): long tasks…`);
+      raw.app = await appRun(server, manifest, 2);
+    }
+  } finally {
+    server.stop();
+  }
+} else {
+  log('browser part skipped (--no-browser, or no chromium)');
+}
+
+raw.machine.loadAvgEnd = loadavg();
+raw.totalS = (performance.now() - started) / 1000;
+const results = { ...raw, figures: figures(raw) };
+mkdirSync(resolve(outPath, '..'), { recursive: true });
+writeFileSync(outPath, JSON.stringify(results, null, 2) + '\n');
+printTable(results);
+log(`wrote ${outPath.replace(`${REPO}/`, '')} in ${raw.totalS.toFixed(0)} s`);

@@ -1,0 +1,114 @@
+// Bench figures (ratios from one run) and the readable table; the targets come from the performance issue.
+import type { TileRunFigures } from './browser-harness.ts';
+import type { AppRunFigures } from './browser.ts';
+
+interface Timings { readMs: number; resampleMs: number; inferMs: number; decodeMs: number }
+
+/** One line of bench/cli-run.ts. */
+export interface CliRun {
+  scene: string; widthPx: number; heightPx: number; tilePx: number; overlapPx: number; planTiles: number; overheadRatio: number;
+  tiles: number; tilesRun: number; tilesSkipped: number; scenePx: number; elapsedMs: number; timings: Timings; mergeMs: number;
+  detections: number; cache: { hits: number; misses: number; evictions: number; bytes: number } | null; peakRssB: number;
+}
+
+export interface BenchRaw {
+  when: string; mode: string; sizes: number[]; blockTiles: number; model: string;
+  machine: { cpus: number; cpuModel: string; loadAvgStart: number[]; loadAvgEnd?: number[] };
+  cli: { block: Record<string, CliRun>; full: Record<string, CliRun> };
+  browser: Record<string, { runs: TileRunFigures[]; rendererPeakRssB: number }>;
+  merge: { node: MergeRow[]; browser: MergeRow[] };
+  app: AppRunFigures | null;
+  totalS?: number;
+}
+interface MergeRow { n: number; ms: number; kept: number }
+
+export interface Throughput {
+  mpixPerS: number; tilesPerS: number;
+  msPerTile: { readDecode: number; resampleNormalise: number; inference: number; outputDecode: number; merge: number; endToEnd: number };
+  inferenceShare: number; decodeShare: number;
+}
+
+function throughput(tiles: number, scenePx: number, wallMs: number, t: Timings, mergeMs: number, workers = 1): Throughput {
+  const per = (v: number) => v / tiles;
+  return {
+    mpixPerS: scenePx / 1e6 / (wallMs / 1000),
+    tilesPerS: tiles / (wallMs / 1000),
+    msPerTile: { readDecode: per(t.readMs), resampleNormalise: per(t.resampleMs), inference: per(t.inferMs), outputDecode: per(t.decodeMs), merge: per(mergeMs), endToEnd: per(wallMs * workers) },
+    // per worker: its inference time over its busy time (wall × workers)
+    inferenceShare: t.inferMs / (wallMs * workers),
+    decodeShare: t.readMs / (wallMs * workers),
+  };
+}
+
+const nlogn = (n: number) => n * Math.log2(n);
+
+export function figures(r: BenchRaw) {
+  const [small, big] = r.sizes.map(String);
+  const cli = Object.fromEntries(Object.entries(r.cli.block).map(([k, c]) => [k, throughput(c.tiles, c.scenePx, c.elapsedMs, c.timings, c.mergeMs)]));
+  const cliFull = Object.fromEntries(Object.entries(r.cli.full).map(([k, c]) => [k, throughput(c.tiles, c.scenePx, c.elapsedMs + c.mergeMs, c.timings, c.mergeMs)]));
+  const browser: Record<string, Record<string, Throughput>> = {};
+  for (const [k, b] of Object.entries(r.browser)) {
+    browser[k] = Object.fromEntries(b.runs.map((x) => [`${x.workers}w`, throughput(x.tiles, x.scenePx, x.wallMs, x.timings, 0, x.workers)]));
+  }
+  const memRuns = Object.keys(r.cli.full).length ? r.cli.full : r.cli.block;
+  const mergeGrowth = (rows: MergeRow[]) => rows.length === 2 ? { measured: rows[1].ms / rows[0].ms, nLogN: nlogn(rows[1].n) / nlogn(rows[0].n) } : null;
+  const ratio = (a?: number, b?: number) => (a !== undefined && b !== undefined && b > 0 ? a / b : null);
+  return {
+    cli, cliFull, browser,
+    inferenceShare: { cli: cli[small]?.inferenceShare ?? null, browser1w: browser[small]?.['1w']?.inferenceShare ?? null, browser2w: browser[small]?.['2w']?.inferenceShare ?? null, target: '≥ 0.85' },
+    browserVsNative: { value: ratio(browser[small]?.['1w']?.tilesPerS, cli[small]?.tilesPerS), target: '≥ 0.35', note: '1 worker / 1 thread, same tiles' },
+    decodeShare: { cli: cli[small]?.decodeShare ?? null, browser1w: browser[small]?.['1w']?.decodeShare ?? null },
+    workerScaling: { value: ratio(browser[small]?.['2w']?.tilesPerS, browser[small]?.['1w']?.tilesPerS), big: ratio(browser[big]?.['2w']?.tilesPerS, browser[big]?.['1w']?.tilesPerS), target: '≥ 1.8' },
+    memoryBound: {
+      cli: ratio(memRuns[big]?.peakRssB, memRuns[small]?.peakRssB),
+      cliPeakRssMB: Object.fromEntries(Object.entries(memRuns).map(([k, c]) => [k, c.peakRssB / 2 ** 20])),
+      cliTiles: Object.fromEntries(Object.entries(memRuns).map(([k, c]) => [k, c.tiles])),
+      browser: ratio(r.browser[big]?.rendererPeakRssB, r.browser[small]?.rendererPeakRssB),
+      browserRendererPeakMB: Object.fromEntries(Object.entries(r.browser).map(([k, b]) => [k, b.rendererPeakRssB / 2 ** 20])),
+      target: '≤ 1.3',
+    },
+    overlapOverhead: { value: r.cli.block[small]?.overheadRatio ?? null, tilePx: r.cli.block[small]?.tilePx, overlapPx: r.cli.block[small]?.overlapPx, target: '≤ 1.2' },
+    merge: { node: r.merge.node, browser: r.merge.browser, growthNode: mergeGrowth(r.merge.node), growthBrowser: mergeGrowth(r.merge.browser), target: '1 000 000 in ≤ 2 s (browser), growth ≈ n log n' },
+    longestMainThreadTaskMs: { value: r.app?.longestTaskMs ?? null, over100: r.app?.longTasksOver100 ?? null, target: '≤ 100' },
+  };
+}
+
+const f = (v: number | null | undefined, d = 2) => (v === null || v === undefined || !Number.isFinite(v) ? '–' : v.toFixed(d));
+
+export function printTable(res: BenchRaw & { figures: ReturnType<typeof figures> }): void {
+  const F = res.figures;
+  const out: string[] = [];
+  out.push(`seamtally bench (${res.mode}, ${res.when}, ${res.machine.cpus} cores, load ${res.machine.loadAvgStart.map((l) => l.toFixed(1)).join('/')} → ${(res.machine.loadAvgEnd ?? []).map((l) => l.toFixed(1)).join('/')})`);
+  out.push(`model ${res.model}; per-tile figures on a centred block of ${res.blockTiles} tiles`);
+  out.push('');
+  out.push('where                 MPix/s tiles/s | ms/tile: read+dec resample infer out-dec merge  e2e | infer% read%');
+  const row = (name: string, t?: Throughput) => {
+    if (!t) return;
+    const m = t.msPerTile;
+    out.push(`${name.padEnd(21)} ${f(t.mpixPerS).padStart(6)} ${f(t.tilesPerS).padStart(7)} | ${f(m.readDecode, 1).padStart(16)} ${f(m.resampleNormalise, 1).padStart(8)} ${f(m.inference, 1).padStart(5)} ${f(m.outputDecode, 1).padStart(7)} ${f(m.merge, 1).padStart(5)} ${f(m.endToEnd, 1).padStart(5)} | ${f(t.inferenceShare * 100, 0).padStart(6)} ${f(t.decodeShare * 100, 0).padStart(5)}`);
+  };
+  for (const [k, t] of Object.entries(F.cli)) row(`CLI ${k}² block`, t);
+  for (const [k, t] of Object.entries(F.cliFull)) row(`CLI ${k}² whole`, t);
+  for (const [k, b] of Object.entries(F.browser)) for (const [w, t] of Object.entries(b)) row(`browser ${k}² ${w}`, t);
+  out.push('');
+  out.push('figure                         value      target');
+  const line = (name: string, v: string, target: string) => out.push(`${name.padEnd(30)} ${v.padEnd(10)} ${target}`);
+  line('inference share (CLI)', f(F.inferenceShare.cli), F.inferenceShare.target);
+  line('inference share (browser 1w)', f(F.inferenceShare.browser1w), F.inferenceShare.target);
+  line('inference share (browser 2w)', f(F.inferenceShare.browser2w), F.inferenceShare.target);
+  line('browser vs native', f(F.browserVsNative.value), F.browserVsNative.target);
+  line('decode share (CLI)', f(F.decodeShare.cli), '(small)');
+  line('decode share (browser 1w)', f(F.decodeShare.browser1w), '(small)');
+  line('worker scaling 2w/1w', `${f(F.workerScaling.value)}${F.workerScaling.big ? ` (${f(F.workerScaling.big)})` : ''}`, F.workerScaling.target);
+  line('memory bound CLI (RSS)', f(F.memoryBound.cli), `${F.memoryBound.target}  ${Object.entries(F.memoryBound.cliPeakRssMB).map(([k, v]) => `${k}²: ${f(v, 0)} MB/${F.memoryBound.cliTiles[k]} tiles`).join(', ')}`);
+  line('memory bound browser', f(F.memoryBound.browser), `${F.memoryBound.target}  ${Object.entries(F.memoryBound.browserRendererPeakMB).map(([k, v]) => `${k}²: ${f(v, 0)} MB`).join(', ')} (renderer VmHWM)`);
+  line('overlap overhead', f(F.overlapOverhead.value), `${F.overlapOverhead.target}  (tile ${F.overlapOverhead.tilePx}, overlap ${F.overlapOverhead.overlapPx})`);
+  for (const where of ['node', 'browser'] as const) {
+    const rows = F.merge[where];
+    if (!rows.length) continue;
+    const g = where === 'node' ? F.merge.growthNode : F.merge.growthBrowser;
+    line(`merge (${where})`, rows.map((m) => `${(m.n / 1e3).toFixed(0)}k: ${f(m.ms, 0)} ms`).join(', '), `growth ×${f(g?.measured, 1)} vs n log n ×${f(g?.nLogN, 1)}; ${F.merge.target}`);
+  }
+  line('longest main-thread task ms', f(F.longestMainThreadTaskMs.value, 0), `${F.longestMainThreadTaskMs.target}  (${F.longestMainThreadTaskMs.over100 ?? '–'} tasks > 100 ms; app run, ${res.app?.tiles ?? '–'} tiles)`);
+  process.stdout.write(out.join('\n') + '\n');
+}

@@ -1,0 +1,57 @@
+// Fast path of filling a tile's tensor when the scene is at the model GSD: copy, mask nodata and normalise in one pass
+// (the same values resampleBand + normaliseInPlace give, without the intermediate passes over the tile).
+import type { Stretch, InputNormalisation } from './radiometry.ts';
+import type { ResamplePlan } from './resample.ts';
+import type { SampleArray } from './scene-source.ts';
+
+/**
+ * True when `plan` copies a contiguous source block one to one (same GSD, every output pixel inside the raster), so
+ * `fillUnit` applies.
+ */
+export function isContiguousUnit(plan: ResamplePlan): boolean {
+  if (!plan.unit) return false;
+  for (const a of [plan.x, plan.y]) {
+    for (let k = 0; k < a.start.length; k++) if (a.inside[k] !== 1 || a.start[k] !== a.start[0] + k) return false;
+  }
+  return true;
+}
+
+/**
+ * Fill a dense T × T NCHW `tensor` from the window bands `src[0..2]` (row-major, `srcW` wide) through a contiguous
+ * unit plan; `valid` gets the first channel's validity (as the general path). Values equal those of
+ * resampleBand (fill 0 for nodata) followed by normaliseInPlace. Returns whether any pixel is valid.
+ */
+export function fillUnit(
+  src: readonly SampleArray[], srcW: number, plan: ResamplePlan, tilePx: number, nodata: number | null,
+  stretch: Stretch, norm: InputNormalisation, tensor: Float32Array, valid: Uint8Array,
+): boolean {
+  const T = tilePx, plane = T * T;
+  const x0 = plan.x.start[0], y0 = plan.y.start[0];
+  const hasNd = nodata !== null, nanNd = hasNd && Number.isNaN(nodata);
+  const identity = stretch.kind === 'identity';
+  let any = false;
+  for (let c = 0; c < 3; c++) {
+    const s = src[c];
+    const lo = stretch.low[c], k = 255 / (stretch.high[c] - lo);
+    const a = norm.scale / norm.std[c], b = -norm.mean[c] / norm.std[c];
+    const off = c * plane;
+    for (let oy = 0; oy < T; oy++) {
+      const row = (y0 + oy) * srcW + x0;
+      const o = off + oy * T;
+      for (let ox = 0; ox < T; ox++) {
+        let v = s[row + ox];
+        const ok = !(hasNd && (nanNd ? v !== v : v === nodata));
+        if (c === 0) { valid[oy * T + ox] = ok ? 1 : 0; if (ok) any = true; }
+        let v8: number;
+        if (!valid[oy * T + ox]) v8 = 0;
+        else {
+          v = ok ? Math.fround(v) : 0;
+          if (identity) v8 = v;
+          else { v8 = (v - lo) * k; v8 = v8 < 0 ? 0 : v8 > 255 ? 255 : v8; }
+        }
+        tensor[o + ox] = v8 * a + b;
+      }
+    }
+  }
+  return any;
+}
