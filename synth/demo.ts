@@ -5,7 +5,7 @@ import { createTransform } from '../web/core/crs.ts';
 import { truthCountsPerAoi, type TruthCounts } from './truth-counts.ts';
 
 /** Bump when the demo's content changes, so a cached copy is regenerated. */
-export const DEMO_VERSION = 'seamtally-demo/1';
+export const DEMO_VERSION = 'seamtally-demo/2';
 export const DEMO_SEED = 2024;
 
 export function demoSceneParams(): SceneParams[] {

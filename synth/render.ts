@@ -42,6 +42,11 @@ export class SceneRenderer {
   private scratch = new Float32Array(0);
   private scratchMask = new Uint8Array(0);
   private sensorScratch = new Float32Array(0);
+  private noiseBuf = new Float32Array(0);
+  private noiseScratch(n: number): Float32Array {
+    if (this.noiseBuf.length < n) this.noiseBuf = new Float32Array(n);
+    return this.noiseBuf.subarray(0, n);
+  }
   private readonly marginPx: number;
   readonly inFootprint: (xPx: number, yPx: number) => boolean;
   /** `o.blockCache`: world blocks kept between windows (default 128). */
@@ -62,8 +67,11 @@ export class SceneRenderer {
     return c.map((v) => v * light);
   }
 
-  /** Render a window of the scene as band-interleaved DNs (Uint8Array for 8 bits, else Uint16Array). */
-  render(win: WindowPx): Uint8Array | Uint16Array {
+  /**
+   * Render a window of the scene as band-interleaved DNs (Uint8Array for 8 bits, else Uint16Array). `into`, when
+   * given, must hold at least w*h*bands samples of the right type and is filled and returned (no allocation).
+   */
+  render(win: WindowPx, into?: Uint8Array | Uint16Array): Uint8Array | Uint16Array {
     const p = this.p;
     const { s, nb } = this;
     const mg = this.marginPx;
@@ -77,7 +85,7 @@ export class SceneRenderer {
     const c: Canvas = {
       sw, sh, nb, buf: this.scratch.subarray(0, sw * sh * nb), mask: this.scratchMask.subarray(0, sw * sh), maskRows: [sh, 0],
       gx0: (win.x0Px - mg) * s, gy0: (win.y0Px - mg) * s, s, dsM: ds, originXM: p.originXM, originYM: p.originYM,
-      noise: new Float32Array(rw * rh), noiseW: rw, seed: p.seed,
+      noise: this.noiseScratch(rw * rh), noiseW: rw, seed: p.seed,
     };
     for (let y = 0; y < rh; y++) {
       for (let x = 0; x < rw; x++) {
@@ -110,14 +118,14 @@ export class SceneRenderer {
       }
       for (const pr of layers[L]) paint(c, pr, this.colour(pr.refl!, pr.light), pr.pv ? this.colour(pr.pv.frame, 1) : null);
     }
-    return this.sensor(c, win, mg);
+    return this.sensor(c, win, mg, into);
   }
 
   /**
    * Pixel aggregation (box sum of s × s samples), then the Gaussian PSF at output spacing (separable), then
    * illumination, haze, shot + read noise, quantisation and the nodata collar.
    */
-  private sensor(c: Canvas, win: WindowPx, mg: number): Uint8Array | Uint16Array {
+  private sensor(c: Canvas, win: WindowPx, mg: number, into?: Uint8Array | Uint16Array): Uint8Array | Uint16Array {
     const p = this.p;
     const { s, nb } = this;
     const { sw, sh, buf } = c;
@@ -176,7 +184,9 @@ export class SceneRenderer {
     const haze = this.colour([0.36, 0.3, 0.24, 0.16], 1);
     const h = p.hazeFraction;
     const { maxDn, dnPerRefl } = radiometry(p.bits);
-    const out = p.bits === 8 ? new Uint8Array(ow * oh * nb) : new Uint16Array(ow * oh * nb);
+    const n = ow * oh * nb;
+    const out = into ? into.subarray(0, n) : p.bits === 8 ? new Uint8Array(n) : new Uint16Array(n);
+    if (into) out.fill(0);
     const noiseScale = 0.8 / p.fullWellE;
     const read2 = p.readNoiseE * p.readNoiseE;
     for (let y = 0; y < oh; y++) {

@@ -35,6 +35,8 @@ export function writeScene(p: SceneParams, out: SceneOutputs, o: { flavour?: 'cl
   const t0 = performance.now();
   let r: SceneRenderer | null = new SceneRenderer(p, { blockCache: o.blockCache });
   let renderMs = 0;
+  const tileSamples = p.tilePx * p.tilePx * bandNames(p.bands).length;
+  const outBuf = p.bits === 8 ? new Uint8Array(tileSamples) : new Uint16Array(tileSamples);
   let tiles = 0;
   const cog = writeCog({
     widthPx: p.widthPx, heightPx: p.heightPx, bandCount: bandNames(p.bands).length, bitsPerSample: p.bits === 8 ? 8 : 16,
@@ -42,7 +44,7 @@ export function writeScene(p: SceneParams, out: SceneOutputs, o: { flavour?: 'cl
     extraTags: geoTiffTags({ epsg: p.epsg, originXM: p.originXM, originYM: p.originYM, gsdM: p.gsdM, nodata: 0, date: p.date, bandNames: bandNames(p.bands), metadata: sceneMetadata(p) }),
   }, (x0Px, y0Px, wPx, hPx) => {
     const t = performance.now();
-    const a = r!.render({ x0Px, y0Px, wPx, hPx });
+    const a = r!.render({ x0Px, y0Px, wPx, hPx }, outBuf); // the writer copies it at once, so one buffer serves all tiles
     renderMs += performance.now() - t;
     o.onTile?.(++tiles);
     return a;

@@ -1,5 +1,5 @@
-// Class-aware greedy NMS and Soft-NMS over oriented boxes; candidates from a uniform grid plus an rbush R-tree.
-import RBush from 'rbush';
+// Class-aware greedy NMS and Soft-NMS over oriented boxes; candidates from candidate-index.ts (grids + rbush).
+import { CandidateIndex } from './candidate-index.ts';
 import { rotatedIoUFlat } from './oriented-box.ts';
 
 /** Box columns NMS reads; a `DetectionTable` satisfies it. Units are whatever the frame uses (metres on the ground). */
@@ -45,9 +45,6 @@ export interface SoftNmsResult {
   score: Float32Array;
 }
 
-/** An R-tree leaf: the box's axis-aligned bounds and its row index. */
-interface Leaf { minX: number; minY: number; maxX: number; maxY: number; i: number }
-
 /** Rows sorted by score descending; ties keep the smaller row index first (as onnxruntime's NonMaxSuppression). */
 function orderByScore(cols: NmsBoxColumns, scoreThreshold: number): Uint32Array {
   let m = 0;
@@ -69,113 +66,6 @@ function orderByScore(cols: NmsBoxColumns, scoreThreshold: number): Uint32Array 
   return out;
 }
 
-/**
- * Candidate index: for a box, every other box whose axis-aligned bounds overlap it.
- * Boxes no larger than the grid cell (2 × the median box extent) go into a flat uniform grid keyed by the cell of
- * their centre (counting sort into typed arrays, bounds stored in cell order for memory locality); larger boxes,
- * and every box when a dense grid would be too sparse, go into an rbush R-tree. Measured on 1 000 000 boxes on a
- * busy 2-core machine: rbush alone took ~2–4 s to load and ~2 s to query; the whole NMS with the grid ~2.5 s.
- */
-class CandidateIndex {
-  /** Rows found by the last `query`. */
-  hits: Uint32Array = new Uint32Array(64);
-  private m = 0;
-  private tree: RBush<Leaf> | null = null;
-  private readonly bx: Float64Array; // per row: minX, minY, maxX, maxY
-  private cellM = 0; private x0 = 0; private y0 = 0; private nx = 0; private ny = 0;
-  private cellStart = new Uint32Array(1);
-  private cellRow = new Uint32Array(0);
-  private cellBox = new Float64Array(0); // bounds in cell order
-
-  constructor(cols: NmsBoxColumns, rows: Uint32Array, opts: { forceTree?: boolean } = {}) {
-    const bx = (this.bx = new Float64Array(4 * cols.count));
-    const n = rows.length;
-    const ext = new Float64Array(n);
-    for (let k = 0; k < n; k++) {
-      const i = rows[k], l = cols.lengthM[i], w = cols.widthM[i], a = cols.angleRad[i];
-      const c = Math.abs(Math.cos(a)), s = Math.abs(Math.sin(a));
-      const hx = (c * l + s * w) / 2, hy = (s * l + c * w) / 2;
-      bx[4 * i] = cols.cxM[i] - hx; bx[4 * i + 1] = cols.cyM[i] - hy; bx[4 * i + 2] = cols.cxM[i] + hx; bx[4 * i + 3] = cols.cyM[i] + hy;
-      ext[k] = 2 * Math.max(hx, hy);
-    }
-    const step = Math.max(1, Math.floor(n / 2048));
-    const sample: number[] = [];
-    for (let k = 0; k < n; k += step) sample.push(ext[k]);
-    sample.sort((a, b) => a - b);
-    const cellM = opts.forceTree ? 0 : 2 * (sample[sample.length >> 1] ?? 0);
-    const small = new Uint32Array(n);
-    let nSmall = 0;
-    let x0 = Infinity, y0 = Infinity, x1 = -Infinity, y1 = -Infinity;
-    for (let k = 0; k < n; k++) {
-      if (!(cellM > 0) || !(ext[k] <= cellM)) continue;
-      const i = rows[k];
-      small[nSmall++] = k;
-      const cx = (bx[4 * i] + bx[4 * i + 2]) / 2, cy = (bx[4 * i + 1] + bx[4 * i + 3]) / 2;
-      if (cx < x0) x0 = cx; if (cx > x1) x1 = cx; if (cy < y0) y0 = cy; if (cy > y1) y1 = cy;
-    }
-    const nx = nSmall ? Math.floor((x1 - x0) / cellM) + 1 : 0, ny = nSmall ? Math.floor((y1 - y0) / cellM) + 1 : 0;
-    const useGrid = nSmall > 0 && nx * ny <= 4 * nSmall + 4096;
-    const inGrid = new Uint8Array(n);
-    if (useGrid) {
-      Object.assign(this, { cellM, x0, y0, nx, ny });
-      const cellOf = new Uint32Array(nSmall);
-      const start = (this.cellStart = new Uint32Array(nx * ny + 1));
-      for (let q = 0; q < nSmall; q++) {
-        const k = small[q], i = rows[k];
-        inGrid[k] = 1;
-        const cx = (bx[4 * i] + bx[4 * i + 2]) / 2, cy = (bx[4 * i + 1] + bx[4 * i + 3]) / 2;
-        const c = Math.floor((cy - y0) / cellM) * nx + Math.floor((cx - x0) / cellM);
-        cellOf[q] = c; start[c + 1]++;
-      }
-      for (let c = 0; c < nx * ny; c++) start[c + 1] += start[c];
-      const fill = start.slice(0, nx * ny);
-      this.cellRow = new Uint32Array(nSmall);
-      this.cellBox = new Float64Array(4 * nSmall);
-      for (let q = 0; q < nSmall; q++) {
-        const at = fill[cellOf[q]]++, i = rows[small[q]];
-        this.cellRow[at] = i;
-        for (let d = 0; d < 4; d++) this.cellBox[4 * at + d] = bx[4 * i + d];
-      }
-    }
-    const large: Leaf[] = [];
-    for (let k = 0; k < n; k++) {
-      if (inGrid[k]) continue;
-      const i = rows[k];
-      large.push({ minX: bx[4 * i], minY: bx[4 * i + 1], maxX: bx[4 * i + 2], maxY: bx[4 * i + 3], i });
-    }
-    if (large.length > 0) { this.tree = new RBush<Leaf>(16); this.tree.load(large); }
-  }
-
-  private push(j: number): void {
-    if (this.m === this.hits.length) { const h = new Uint32Array(this.m * 2); h.set(this.hits); this.hits = h; }
-    this.hits[this.m++] = j;
-  }
-
-  /** Rows whose bounds overlap row i's bounds (including i itself) land in `hits`; returns their count. */
-  query(i: number): number {
-    this.m = 0;
-    const bx = this.bx;
-    const a0 = bx[4 * i], b0 = bx[4 * i + 1], a1 = bx[4 * i + 2], b1 = bx[4 * i + 3];
-    if (this.nx > 0) {
-      const cell = this.cellM, half = cell / 2; // a grid box reaches at most half a cell from its centre
-      const ix0 = Math.max(0, Math.floor((a0 - half - this.x0) / cell)), ix1 = Math.min(this.nx - 1, Math.floor((a1 + half - this.x0) / cell));
-      const iy0 = Math.max(0, Math.floor((b0 - half - this.y0) / cell)), iy1 = Math.min(this.ny - 1, Math.floor((b1 + half - this.y0) / cell));
-      const cb = this.cellBox, start = this.cellStart;
-      for (let iy = iy0; iy <= iy1; iy++) {
-        // Cells ix0..ix1 of one grid row are contiguous in cell order.
-        for (let k = start[iy * this.nx + ix0], e = start[iy * this.nx + ix1 + 1]; k < e; k++) {
-          if (cb[4 * k] <= a1 && cb[4 * k + 2] >= a0 && cb[4 * k + 1] <= b1 && cb[4 * k + 3] >= b0) this.push(this.cellRow[k]);
-        }
-      }
-    }
-    if (this.tree) {
-      const found = this.tree.search({ minX: a0, minY: b0, maxX: a1, maxY: b1 });
-      for (let k = 0; k < found.length; k++) this.push(found[k].i);
-    }
-    return this.m;
-  }
-}
-
 function iouOf(c: NmsBoxColumns, i: number, j: number): number {
   return rotatedIoUFlat(
     c.cxM[i], c.cyM[i], c.lengthM[i], c.widthM[i], c.angleRad[i],
@@ -192,13 +82,17 @@ function checkColumns(cols: NmsBoxColumns): void {
 /**
  * Greedy NMS: repeatedly keep the highest-scoring remaining box and suppress every remaining box of the same class
  * whose IoU with it exceeds `iouThreshold`. Returns kept row indices sorted by score descending.
- * Cost: one index query per kept box: O(n log n) (the sort) when each box overlaps a bounded number of others.
+ * Cost: one index query per box (in spatial order): O(n log n) (the sort) when each box overlaps a bounded number of others.
  */
 export function greedyNms(cols: NmsBoxColumns, opts: NmsOptions = {}): Uint32Array {
   checkColumns(cols);
   const iouThreshold = opts.iouThreshold ?? 0.5;
   const order = orderByScore(cols, opts.scoreThreshold ?? -Infinity);
-  const index = new CandidateIndex(cols, order, { forceTree: opts.forceTree });
+  // The index is built over the rows in table order (tiles arrive as runs of nearby rows), not in score order.
+  const index = new CandidateIndex(cols, order.slice().sort(), { forceTree: opts.forceTree });
+  // Candidate pairs first, in spatial order; then the greedy pass in score order only walks short neighbour lists
+  // (querying the index in score order jumps all over memory: most of the time of a 1 000 000-box merge).
+  const nb = index.neighbourLists(cols.count, opts.classAgnostic ? null : cols.classIdx);
   const suppressed = new Uint8Array(cols.count);
   const rank = new Uint32Array(cols.count);
   for (let k = 0; k < order.length; k++) rank[order[k]] = k;
@@ -208,9 +102,8 @@ export function greedyNms(cols: NmsBoxColumns, opts: NmsOptions = {}): Uint32Arr
     const i = order[k];
     if (suppressed[i]) continue;
     keep[nKeep++] = i;
-    const count = index.query(i), rows = index.hits;
-    for (let h = 0; h < count; h++) {
-      const j = rows[h];
+    for (let h = nb.start[i], e = nb.start[i + 1]; h < e; h++) {
+      const j = nb.nbr[h];
       if (suppressed[j] || rank[j] <= k) continue;
       if (!opts.classAgnostic && cols.classIdx[j] !== cols.classIdx[i]) continue;
       if (iouOf(cols, i, j) > iouThreshold) suppressed[j] = 1;

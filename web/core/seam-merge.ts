@@ -79,11 +79,10 @@ export function concatDetectionTables(tables: readonly DetectionTable[]): Detect
 export function selectRows(t: DetectionTable, rows: ArrayLike<number>): DetectionTable {
   const n = rows.length;
   const out = createDetectionTable(t.frameCrs, n);
-  for (let k = 0; k < n; k++) {
-    const i = rows[k];
-    out.cxM[k] = t.cxM[i]; out.cyM[k] = t.cyM[i]; out.lengthM[k] = t.lengthM[i]; out.widthM[k] = t.widthM[i];
-    out.angleRad[k] = t.angleRad[i]; out.score[k] = t.score[i]; out.classIdx[k] = t.classIdx[i]; out.sceneIdx[k] = t.sceneIdx[i];
-  }
+  // one column at a time: a gather from one source column stays in cache far better than eight at once
+  const gather = (src: ArrayLike<number>, dst: { [k: number]: number }) => { for (let k = 0; k < n; k++) dst[k] = src[rows[k]]; };
+  gather(t.cxM, out.cxM); gather(t.cyM, out.cyM); gather(t.lengthM, out.lengthM); gather(t.widthM, out.widthM);
+  gather(t.angleRad, out.angleRad); gather(t.score, out.score); gather(t.classIdx, out.classIdx); gather(t.sceneIdx, out.sceneIdx);
   out.count = n;
   return out;
 }

@@ -9,7 +9,6 @@ import { TileCache } from '../core/tile-cache.ts';
 import { fastBlockReader, type FastBlockReader } from './geotiff-blocks.ts';
 import { checkMagic, checkRasterSize, classify } from './geotiff-errors.ts';
 import './lzw-decoder.ts'; // registers the bounded LZW decoder with geotiff.js
-import './deflate-decoder.ts'; // registers the native-zlib DEFLATE decoder with geotiff.js
 
 export { checkMagic };
 import {
