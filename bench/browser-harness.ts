@@ -41,11 +41,11 @@ export async function runTiles(spec: TileRunSpec): Promise<TileRunFigures> {
   const handles: WorkerHandle<DetectorApi>[] = [];
   for (let i = 0; i < spec.workers; i++) handles.push(spawnDetector(`bench-detector-${i}`));
   try {
-    const loads = await Promise.all(handles.map((h) => h.api.loadModel(modelBytes.slice(0), sidecar, { numThreads: 1 }).then(unwrap)));
+    const loads = await Promise.all(handles.map((h) => h.api.loadModel(modelBytes.slice(0), sidecar, { numThreads: 1 }).then((r) => unwrap(r))));
     const input = { kind: 'url' as const, url: spec.sceneUrl };
     // the bench scenes are in EPSG:32632, which is also their metric frame
     const prepare: ScenePrepareOptions = { sceneIdx: 0, frameEpsg: 32632, minScore: sidecar.minScore ?? 0.5, tilePx: spec.tilePx };
-    const plans = await Promise.all(handles.map((h) => h.api.planScene('bench', input, prepare).then(unwrap)));
+    const plans = await Promise.all(handles.map((h) => h.api.planScene('bench', input, prepare).then((r) => unwrap(r))));
     const plan: TilePlan = plans[0].plan;
     const tiles = spec.tiles > 0 ? centredBlock(plan, spec.tiles) : plan.tiles;
     const task = (tileIndex: number) => ({ runId: 'bench', sceneKey: 'bench', input, prepare, tileIndex });

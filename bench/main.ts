@@ -25,7 +25,7 @@ const smoke = values.smoke ?? false;
 const quick = (values.quick ?? false) || smoke;
 const log = (s: string) => process.stderr.write(`[bench] ${s}\n`);
 const modelPath = resolve(REPO, values.model ?? 'models/seamtally-det.onnx');
-const sizes = smoke ? [1024, 2048] : [4000, values.big ? 16000 : 8000];
+const sizes = smoke ? [640, 1280] : [4000, values.big ? 16000 : 8000];
 const blockTiles = Number(values.tiles ?? (smoke ? 4 : quick ? 16 : 36));
 const mergeNs = smoke ? [10_000, 100_000] : [100_000, 1_000_000];
 const outPath = resolve(REPO, values.out ?? 'bench/results.json');

@@ -5,9 +5,11 @@ import { crsDefinition } from '../web/core/crs.ts';
 import { readValidMask } from '../web/core/valid-mask.ts';
 import { validateSidecar, checkModelIO, type ModelSidecar } from '../web/core/model-contract.ts';
 import { createTileScratch, runTile, type TileScratch } from '../web/core/pipeline.ts';
+import { modelLoadFailure } from '../web/core/model-load-failure.ts';
 import { createOrtModel, type OrtModel } from './ort-session.ts';
 import { openInput, SceneCache } from './scene-cache.ts';
 import { renderPreview } from './preview.ts';
+import { assertSomeValidPixels } from './scene-checks.ts';
 import { tableBuffers } from './transfer.ts';
 import type { DetectorApi } from './contract.ts';
 
@@ -41,7 +43,11 @@ async function injectFault(fault: 'throw' | 'crash'): Promise<void> {
 const api = {
   describeScene: (input) => guard(async () => {
     const src = await openInput(input, 8 * 1024 * 1024);
-    try { return { info: src.info, proj4Def: crsDefinition(src.info.georef.epsg), mask: await readValidMask(src) }; } finally { await src.close(); }
+    try {
+      const mask = await readValidMask(src);
+      await assertSomeValidPixels(src, mask);
+      return { info: src.info, proj4Def: crsDefinition(src.info.georef.epsg), mask };
+    } finally { await src.close(); }
   }, (v) => [v.mask.validMask.buffer as ArrayBuffer]),
   previewScene: (input, opts) => guard(async () => {
     const src = await openInput(input, 8 * 1024 * 1024);
@@ -50,9 +56,7 @@ const api = {
   loadModel: (bytes, sidecarValue, opts) => guard(async () => {
     const sidecar = validateSidecar(sidecarValue);
     let ort: OrtModel;
-    try { ort = await createOrtModel(bytes, opts); } catch (err) {
-      throw new SeamtallyError('model-invalid', `The .onnx file could not be loaded (${err instanceof Error ? err.message : String(err)}). Check that it is an ONNX model and not corrupt.`);
-    }
+    try { ort = await createOrtModel(bytes, opts); } catch (err) { throw modelLoadFailure(err, bytes.byteLength); }
     checkModelIO(sidecar, ort.io);
     await model?.ort.release();
     model = { ort, sidecar, id: ++modelSeq };

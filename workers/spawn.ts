@@ -16,6 +16,7 @@ export interface WorkerHandle<T> {
 
 function handle<T>(worker: Worker): WorkerHandle<T> {
   const api = wrap<T>(worker);
+  let stopped = false;
   let reject: (err: Error) => void = () => {};
   const lost = new Promise<never>((_, rej) => { reject = rej; });
   lost.catch(() => {}); // observed by whoever races it; never an unhandled rejection
@@ -24,7 +25,13 @@ function handle<T>(worker: Worker): WorkerHandle<T> {
   return {
     api,
     lost,
-    terminate: () => { reject(new Error('the worker was stopped')); api[releaseProxy](); worker.terminate(); },
+    terminate: () => {
+      if (stopped) return;
+      stopped = true;
+      reject(new Error('the worker was stopped'));
+      worker.terminate();
+      try { api[releaseProxy](); } catch { /* already released */ }
+    },
   };
 }
 

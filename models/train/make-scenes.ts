@@ -1,7 +1,7 @@
 // Training / validation / evaluation scene sets for the detector, written with the synthesizer's own scene writer
 // (the same code `seamtally synth` runs). The sets never share seeds; the evaluation set also uses a scenario,
 // dates (sun angles, seasons) and sensor settings the training set does not.
-// Usage: node --import ./models/train/cjs-named-exports.mjs --import tsx models/train/make-scenes.ts train|lowsun|val|eval|tiling DIR [count]
+// Usage: npx tsx models/train/make-scenes.ts train|lowsun|val|eval|tiling DIR [count]
 import { existsSync, mkdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { makeSceneParams, type BandLayout, type BitDepth, type SceneOptions } from '../../synth/scene-params.ts';

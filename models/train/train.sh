@@ -11,10 +11,8 @@ cd "$(dirname "$0")/../.."
 PY=/usr/bin/python3
 WORK=${WORK:-models/train/work}
 THREADS=${THREADS:-2}
-# the preload gives a CommonJS dependency of the core named ESM exports when run outside a bundler
-NODE="node --import ./models/train/cjs-named-exports.mjs"
-ST="$NODE bin/seamtally.mjs"
-TSX="$NODE --import tsx"
+ST="node bin/seamtally.mjs"
+TSX="npx tsx"
 T="nice -n 10 $PY models/train/train.py --threads $THREADS"
 mkdir -p "$WORK"
 $PY -c "import torch, onnx" || { echo "needs Debian's python3-torch and python3-onnx: apt-get install -y python3-torch python3-onnx" >&2; exit 1; }

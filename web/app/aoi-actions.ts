@@ -5,6 +5,7 @@ import { pointInRing, OUTSIDE } from '../core/point-in-polygon.ts';
 import { polygonAreaM2 } from '../core/geodesic-area.ts';
 import { toErrorInfo } from '../core/errors.ts';
 import type { LonLatDeg } from '../core/types.ts';
+import { aoisOutsideScenes } from './aoi-footprint.ts';
 
 function report(state: AppState, err: unknown): void {
   state.events.emit('notice', { level: 'error', text: toErrorInfo(err).message });
@@ -86,6 +87,9 @@ export async function importAreas(state: AppState, text: string): Promise<number
     await keep(state, rec);
   }
   state.events.emit('aois-changed');
+  for (const a of aoisOutsideScenes(aois, state.scenes)) {
+    state.events.emit('notice', { level: 'error', text: `AOI "${a.name}" lies outside every scene open (${state.scenes.map((s) => s.name).join(', ')}): check that the AOI and the scenes show the same place.` });
+  }
   return aois.length;
 }
 
