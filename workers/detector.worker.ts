@@ -9,7 +9,7 @@ import { modelLoadFailure } from '../web/core/model-load-failure.ts';
 import { createOrtModel, type OrtModel } from './ort-session.ts';
 import { openInput, SceneCache } from './scene-cache.ts';
 import { renderPreview } from './preview.ts';
-import { assertSomeValidPixels } from './scene-checks.ts';
+import { assertBandsKnown, assertSomeValidPixels } from './scene-checks.ts';
 import { tableBuffers } from './transfer.ts';
 import type { DetectorApi } from './contract.ts';
 
@@ -44,6 +44,7 @@ const api = {
   describeScene: (input) => guard(async () => {
     const src = await openInput(input, 8 * 1024 * 1024);
     try {
+      assertBandsKnown(src.info);
       const mask = await readValidMask(src);
       await assertSomeValidPixels(src, mask);
       return { info: src.info, proj4Def: crsDefinition(src.info.georef.epsg), mask };

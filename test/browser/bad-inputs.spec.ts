@@ -12,6 +12,7 @@ import { makeBrowserFixture, TESTDATA_DIR, type BrowserFixture } from './scenes-
 /** Where the page's wording differs from the CLI's (the page asks for files, the CLI for paths). */
 const PAGE_MESSAGE: Record<string, RegExp> = {
   'sidecar-missing': /Pick two files together: the model \(\.onnx\) and its sidecar \(\.model\.json\)/,
+  'bands-5-unnamed': /has 5 bands and no band names.*write an RGB copy first, for example gdal_translate -b 3 -b 2 -b 1/,
 };
 /** Entries the page cannot be given (command-line arguments). */
 const inPage = (b: BadInput) => b.stage !== 'args';

@@ -41,6 +41,10 @@ export async function openScene(state: AppState, svc: SceneServices, input: Scen
     }
     const r = await svc.pool.any().describeScene(input);
     if (!r.ok) throw fromErrorInfo(r.error);
+    // The overview picture is made before the scene is listed: a scene whose pixels cannot be decoded (an unknown
+    // compression, tiles cut off) is refused with its sentence instead of being listed and failing at run time.
+    const preview = await svc.pool.any().previewScene(input, { maxLongSidePx: PREVIEW_LONG_SIDE_PX });
+    if (!preview.ok) throw fromErrorInfo(preview.error);
     const info = { ...r.value.info, name };
     const kept = (await state.store?.allScenes())?.find((s) => s.fingerprint === fingerprint);
     let dateIso = kept?.dateIso ?? opts.dateIso ?? info.acquisitionDate ?? null;
@@ -55,7 +59,7 @@ export async function openScene(state: AppState, svc: SceneServices, input: Scen
     const { input: _live, ...record } = entry;
     await state.store?.putScene(record);
     state.events.emit('scenes-changed');
-    void drawScene(state, svc, entry);
+    void svc.layers.show(entry, preview.value, entry.description.proj4Def);
     return entry;
   } catch (err) {
     const message = toErrorInfo(err).message;

@@ -20,7 +20,9 @@ function objectsFor(plan: TilePlan): Obj[] {
   for (const x of xs) for (let y = 20; y < plan.modelHeightPx - 20; y += spacing) out.push(car(x, y));
   for (const y of ys) for (let x = 40; x < plan.modelWidthPx - 20; x += spacing) out.push(car(x + 3, y)); // off the vertical lines
   for (const x of xs) for (const y of ys) if (x > 0 && y > 0) { out.push(car(x + 20, y - 1e-9)); out.push(car(x - 1e-9, y + 20)); }
-  const keepApart = out.filter((o, i) => out.every((p, j) => j >= i || Math.hypot(o.xPx - p.xPx, o.yPx - p.yPx) > 18));
+  // Only objects inside the scene (a corner object 20 px right of the last seam can fall outside a narrow last core).
+  const inScene = out.filter((o) => o.xPx >= 0 && o.xPx < plan.modelWidthPx && o.yPx >= 0 && o.yPx < plan.modelHeightPx);
+  const keepApart = inScene.filter((o, i) => inScene.every((p, j) => j >= i || Math.hypot(o.xPx - p.xPx, o.yPx - p.yPx) > 18));
   for (let n = 0; n < 300; n++) {
     const o = car(rnd() * plan.modelWidthPx, rnd() * plan.modelHeightPx);
     if (keepApart.every((p) => Math.hypot(o.xPx - p.xPx, o.yPx - p.yPx) > 18)) keepApart.push(o);
