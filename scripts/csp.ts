@@ -29,7 +29,8 @@ export function parseImageryOrigins(value: string | undefined): string[] {
  * the dev server's reload socket needs.
  */
 export function contentSecurityPolicy(imageryOrigins: readonly string[] = []): string {
-  const connect = ["'self'", ...imageryOrigins].join(' ');
+  // data: stays on the machine: geotiff.js's ZSTD and LERC decoders fetch their WebAssembly from a data: URL.
+  const connect = ["'self'", 'data:', ...imageryOrigins].join(' ');
   return [
     "default-src 'self'",
     "script-src 'self' 'wasm-unsafe-eval'",

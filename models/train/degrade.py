@@ -86,3 +86,44 @@ def jitter(img, rng):
 def sample_sensor_gsd(rng):
     """Sensor GSD in metres: log-uniform 0.12-0.9 m (covers the 0.15-0.8 m evaluation grid)."""
     return float(math.exp(rng.uniform(math.log(0.12), math.log(0.9))))
+
+
+def strong_jitter(img, rng):
+    """Wider photometric randomisation (training stage 4, for unseen light / sensors): gamma, contrast, brightness,
+    per-band gains, saturation, haze / colour cast, optional blur and noise, band permutation."""
+    x = np.clip(img / 255.0, 0, 1) ** rng.uniform(0.65, 1.5)
+    m = x.mean()
+    x = (x - m) * rng.uniform(0.65, 1.35) + m * rng.uniform(0.7, 1.3)
+    x = x * rng.uniform(0.8, 1.2, 3).astype(np.float32)
+    if rng.random() < 0.4:  # saturation: towards grey or away from it
+        g = x.mean(-1, keepdims=True)
+        x = g + (x - g) * rng.uniform(0.0, 1.6)
+    if rng.random() < 0.3:  # haze / colour cast
+        x = x * (1 - (a := rng.uniform(0.05, 0.3))) + a * rng.uniform(0.5, 1.0, 3).astype(np.float32)
+    if rng.random() < 0.3:
+        t = torch.from_numpy(np.ascontiguousarray(x.transpose(2, 0, 1), dtype=np.float32))[None]
+        x = gaussian_blur(t, rng.uniform(0.4, 1.3))[0].numpy().transpose(1, 2, 0)
+    x = x + rng.standard_normal(x.shape).astype(np.float32) * rng.uniform(0, 0.04)
+    if rng.random() < 0.1:
+        x = x[..., rng.permutation(3)]
+    return np.clip(x * 255, 0, 255).astype(np.float32)
+
+
+def fake_shadows(img, objs, rng, px_per_m=1 / 0.3):
+    """Hard negatives: unlabelled car-sized or longer dark soft-edged rotated bars (like low-sun cast shadows),
+    multiplied into the image (ground texture stays) away from labelled object centres."""
+    h, w = img.shape[:2]
+    out = img.copy()
+    yy, xx = np.mgrid[0:h, 0:w].astype(np.float32)
+    for _ in range(int(rng.integers(1, 8))):
+        cx, cy = rng.uniform(0, w), rng.uniform(0, h)
+        if len(objs) and (np.hypot(objs[:, 1] - cx, objs[:, 2] - cy) < 12).any():
+            continue
+        ln = rng.uniform(4.0, 12.0) * px_per_m
+        wd = rng.uniform(1.5, 2.3) * px_per_m
+        a = rng.uniform(0, math.pi)
+        u = (xx - cx) * math.cos(a) + (yy - cy) * math.sin(a)
+        v = -(xx - cx) * math.sin(a) + (yy - cy) * math.cos(a)
+        inside = np.clip(1.5 - np.maximum(np.abs(u) / (ln / 2), np.abs(v) / (wd / 2)) * 1.5 + 0.5, 0, 1)
+        out *= (1 - inside * rng.uniform(0.35, 0.65))[..., None]
+    return out

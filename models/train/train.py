@@ -15,7 +15,7 @@ import torch.nn.functional as F
 sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
 from model import SeamtallyDet, CLASSES  # noqa: E402
 from targets import build, dihedral, MAX_OBJ  # noqa: E402
-from degrade import jitter  # noqa: E402
+from degrade import jitter, strong_jitter, fake_shadows  # noqa: E402
 
 
 def load_shard(path):
@@ -52,7 +52,16 @@ class ShardPool:
                     self.chips[d].append((imgs[i], objs[objs[:, 0] == i][:, 1:]))
         return {os.path.basename(d): len(v) for d, v in self.chips.items()}
 
-    def sample(self, rng, weights):
+    def solar(self):
+        """Chips holding at least one mostly visible solar_panel array (class 1), over all sources."""
+        if not hasattr(self, "_solar"):
+            self._solar = [(d, c) for d in self.dirs for c in self.chips[d]
+                           if len(c[1]) and ((c[1][:, 0] == 1) & (c[1][:, 6] >= 0.5)).any()]
+        return self._solar
+
+    def sample(self, rng, weights, solar_frac=0.0):
+        if solar_frac > 0 and self.solar() and rng.random() < solar_frac:
+            return self._solar[rng.integers(len(self._solar))]
         live = [(d, w) for d, w in zip(self.dirs, weights) if self.chips[d]]
         p = np.array([w for _, w in live], np.float64)
         d = live[rng.choice(len(live), p=p / p.sum())][0]
@@ -71,10 +80,10 @@ def focal_loss(logits, gt, ignore):
     return -(pos_l.sum() + neg_l.sum()) / torch.clamp(npos, min=1.0)
 
 
-def make_batch(pool, rng, bs, px, weights, synth_dirs):
+def make_batch(pool, rng, bs, px, weights, synth_dirs, strong=False, solar_frac=0.0, shadow_p=0.0):
     xs, hms, igs, inds, regs, wts = [], [], [], [], [], []
     for _ in range(bs):
-        d, (img, objs) = pool.sample(rng, weights)
+        d, (img, objs) = pool.sample(rng, weights, solar_frac)
         if img.shape[0] > px:  # random crop of a larger chip
             ox, oy = rng.integers(0, img.shape[1] - px + 1), rng.integers(0, img.shape[0] - px + 1)
             img = img[oy:oy + px, ox:ox + px]
@@ -83,7 +92,11 @@ def make_batch(pool, rng, bs, px, weights, synth_dirs):
             objs[:, 2] -= oy
         img, objs = dihedral(img, objs, int(rng.integers(0, 8)), px)
         img = img.astype(np.float32)
-        if d in synth_dirs:
+        if shadow_p > 0 and rng.random() < shadow_p:
+            img = fake_shadows(img, objs, rng)
+        if strong:
+            img = strong_jitter(img, rng)
+        elif d in synth_dirs:
             img = jitter(img, rng)
         t = build(objs, px, len(CLASSES))
         xs.append(img.transpose(2, 0, 1) / 255.0)
@@ -120,6 +133,10 @@ def main():
     ap.add_argument("--export", default=None, help="ONNX path written at every checkpoint and at the end")
     ap.add_argument("--seed", type=int, default=7)
     ap.add_argument("--threads", type=int, default=2)
+    ap.add_argument("--strong-aug", action="store_true", help="wide colour/light/blur/noise jitter on every chip")
+    ap.add_argument("--solar-frac", type=float, default=0.0, help="share of chips drawn from those with arrays")
+    ap.add_argument("--shadow-p", type=float, default=0.0, help="chance of unlabelled fake cast shadows per chip")
+    ap.add_argument("--warmup", type=int, default=150, help="warm-up steps")
     a = ap.parse_args()
     torch.set_num_threads(a.threads)
     torch.manual_seed(a.seed)
@@ -140,11 +157,11 @@ def main():
         frac = (time.time() - t0) / budget
         if frac >= 1:
             break
-        lr = a.lr * min(1.0, (step + 1) / 150) * (0.02 + 0.98 * 0.5 * (1 + math.cos(math.pi * frac)))
+        lr = a.lr * min(1.0, (step + 1) / a.warmup) * (0.02 + 0.98 * 0.5 * (1 + math.cos(math.pi * frac)))
         for g in opt.param_groups:
             g["lr"] = lr
         model.train()
-        batch = make_batch(pool, rng, a.bs, a.px, weights, set(a.synth))
+        batch = make_batch(pool, rng, a.bs, a.px, weights, set(a.synth), a.strong_aug, a.solar_frac, a.shadow_p)
         l_hm, l_size, l_off, l_ang = losses(model, batch)
         loss = l_hm + 0.5 * l_size + l_off + 0.5 * l_ang
         opt.zero_grad()

@@ -1,6 +1,6 @@
 #!/usr/bin/env bash
 # `npm run train`: regenerate training scenes with the synthesizer, cut chips the way the pipeline sees scenes,
-# generate procedural chips, train seamtally-det from scratch on the CPU in three stages, export the ONNX + sidecar,
+# generate procedural chips, train seamtally-det from scratch on the CPU in four stages, export the ONNX + sidecar,
 # then evaluate on held-out scenes and store the quality curves in the sidecar. Uses Debian's system python3 with
 # python3-torch / python3-onnx (apt-get install -y python3-torch python3-onnx). Not part of CI.
 # This is the recipe that made the shipped model (stage minutes as run: 21 + 24 + 14; about 75 min in all on the
@@ -38,7 +38,12 @@ touch "$WORK/proc/STOP"; wait $GEN || true
 $T --sources "$WORK/synth" "$WORK/proc" --weights 0.65 0.35 --synth "$WORK/synth" --init "$WORK/stage1.pt" \
   --lr 1e-3 --minutes "${STAGE2_MIN:-24}" --ckpt "$WORK/stage2.pt"
 $T --sources "$WORK/synth" "$WORK/synth-lowsun" "$WORK/proc" --weights 0.35 0.35 0.3 --synth "$WORK/synth" "$WORK/synth-lowsun" \
-  --init "$WORK/stage2.pt" --lr 6e-4 --minutes "${STAGE3_MIN:-14}" --ckpt "$WORK/model.pt"
+  --init "$WORK/stage2.pt" --lr 6e-4 --minutes "${STAGE3_MIN:-14}" --ckpt "$WORK/stage3.pt"
+# stage 4 (generalisation): more low-sun scenes, wide colour / light / blur / noise jitter on every chip, unlabelled
+# fake cast shadows as hard negatives, a fifth of the chips drawn from those holding solar-panel arrays
+$T --sources "$WORK/synth" "$WORK/synth-lowsun" "$WORK/proc" --weights 0.25 0.45 0.3 --synth "$WORK/synth" "$WORK/synth-lowsun" \
+  --init "$WORK/stage3.pt" --lr 5e-4 --warmup 30 --minutes "${STAGE4_MIN:-20}" --strong-aug --solar-frac 0.2 --shadow-p 0.4 \
+  --ckpt "$WORK/model.pt"
 # 4. ship: ONNX + sidecar; the validation scenes (seeds 5001-5004) show the best-F1 threshold
 $PY models/train/finalize.py "$WORK/model.pt" --min-score "${MIN_SCORE:-0.3}"
 $ST eval --model models/seamtally-det.onnx --scenes "$WORK/scenes-val" --out "$WORK/val.json" --quiet

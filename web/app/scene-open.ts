@@ -57,7 +57,8 @@ export async function openScene(state: AppState, svc: SceneServices, input: Scen
     };
     state.scenes = [...state.scenes, entry];
     const { input: _live, ...record } = entry;
-    await state.store?.putScene(record);
+    // A scene that cannot be kept (full disk) is still usable now: say so, and go on.
+    await state.store?.putScene(record).catch((err) => state.events.emit('notice', { level: 'error', text: toErrorInfo(err).message }));
     state.events.emit('scenes-changed');
     void svc.layers.show(entry, preview.value, entry.description.proj4Def);
     return entry;
