@@ -21,6 +21,9 @@ describe('streaming memory bound', () => {
     const heap = b.liveHeapMiB / a.liveHeapMiB;
     console.log(`${small}²: RSS ${(a.maxRssKiB / 1024).toFixed(0)} MiB, live heap ${a.liveHeapMiB.toFixed(1)} MiB; ${large}²: RSS ${(b.maxRssKiB / 1024).toFixed(0)} MiB, live heap ${b.liveHeapMiB.toFixed(1)} MiB; ratios RSS ${rss.toFixed(2)}, heap ${heap.toFixed(2)} (pixels ×${((large / small) ** 2).toFixed(1)})`);
     expect(rss).toBeLessThan(1.3);
-    expect(heap).toBeLessThan(1.35); // measured 1.2; an unbounded colour cache (since fixed) made RSS 16000²/4000² = 3.3
+    // Live heap: a few MiB of V8 noise (measured +2.6 MiB, ratio 1.16–1.30 on small heaps); something that grows with
+    // the scene (the colour cache since fixed made RSS 16000²/4000² = 3.3) adds tens of MiB.
+    expect(b.liveHeapMiB - a.liveHeapMiB).toBeLessThan(6);
+    expect(heap).toBeLessThan(1.6);
   });
 });
