@@ -6,6 +6,9 @@ const chromiumPath = (() => {
   try { return execSync('command -v chromium', { shell: '/bin/bash' }).toString().trim(); } catch { return '/usr/bin/chromium'; }
 })();
 
+/** Port of the test server; SEAMTALLY_TEST_PORT lets two checkouts test side by side. */
+export const TEST_PORT = Number(process.env.SEAMTALLY_TEST_PORT ?? 5179);
+
 export default defineConfig({
   testDir: 'test/browser',
   testMatch: '**/*.spec.ts',
@@ -15,7 +18,7 @@ export default defineConfig({
   workers: 1,
   reporter: [['list'], ['json']],
   use: {
-    baseURL: 'http://127.0.0.1:5179',
+    baseURL: `http://127.0.0.1:${TEST_PORT}`,
     launchOptions: {
       executablePath: chromiumPath,
       args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run',
@@ -25,8 +28,8 @@ export default defineConfig({
     viewport: { width: 1440, height: 900 },
   },
   webServer: {
-    command: 'npx vite --port 5179 --strictPort --host 127.0.0.1 --bypass-lock',
-    url: 'http://127.0.0.1:5179/',
+    command: `npx vite --port ${TEST_PORT} --strictPort --host 127.0.0.1 --bypass-lock`,
+    url: `http://127.0.0.1:${TEST_PORT}/`,
     reuseExistingServer: false,
     timeout: 120_000,
   },

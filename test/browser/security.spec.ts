@@ -10,7 +10,8 @@ let fx: BrowserFixture;
 test.beforeAll(() => { fx = makeBrowserFixture(); });
 
 /** Another origin served by the very same server (localhost vs 127.0.0.1): only the CSP can stop requests to it. */
-const OTHER_ORIGIN = 'http://localhost:5179';
+const PORT = Number(process.env.SEAMTALLY_TEST_PORT ?? 5179);
+const OTHER_ORIGIN = `http://localhost:${PORT}`;
 
 interface Violation { directive: string; blockedURI: string }
 
@@ -70,9 +71,9 @@ test('the CSP is sent and enforced: no eval, no inline or remote script, no othe
   expect(pageResult).toEqual({ evalResult: 'EvalError', fnResult: 'EvalError', fetched: 'blocked', inlineRan: false });
   const seen = await violations(page);
   const blockedBy = (d: string, uri: RegExp) => seen.some((v) => v.directive === d && uri.test(v.blockedURI));
-  expect(blockedBy('connect-src', /^http:\/\/localhost:5179\/demo/)).toBe(true);
-  expect(blockedBy('img-src', /^http:\/\/localhost:5179\//)).toBe(true);
-  expect(blockedBy('script-src-elem', /^http:\/\/localhost:5179\//)).toBe(true);
+  expect(blockedBy('connect-src', new RegExp(`^http://localhost:${PORT}/demo`))).toBe(true);
+  expect(blockedBy('img-src', new RegExp(`^http://localhost:${PORT}/`))).toBe(true);
+  expect(blockedBy('script-src-elem', new RegExp(`^http://localhost:${PORT}/`))).toBe(true);
   expect(blockedBy('script-src-elem', /^inline$/)).toBe(true);
 
   // In a detector worker (where scenes are read): eval throws and another origin is refused; its own origin works.
@@ -91,7 +92,7 @@ test('the CSP is sent and enforced: no eval, no inline or remote script, no othe
   // The URL box refuses another origin with a sentence saying how to allow it (instead of the browser's silent block).
   await page.fill('input[aria-label="Scene URL"]', `${OTHER_ORIGIN}/testdata/blob/scene-a.tif`);
   await page.click('text=Open URL');
-  await expect(page.locator('.notice.error').last()).toContainText(/not one of them: restart it with SEAMTALLY_IMAGERY_ORIGINS=http:\/\/localhost:5179/);
+  await expect(page.locator('.notice.error').last()).toContainText(new RegExp(`not one of them: restart it with SEAMTALLY_IMAGERY_ORIGINS=http://localhost:${PORT}`));
   await expect(page.locator('[data-testid=scene-list] li')).toHaveCount(2);
 });
 
