@@ -4,6 +4,7 @@ import { spawnDetector, spawnTally, type WorkerHandle } from '../workers/spawn.t
 import type { DetectorApi, ScenePrepareOptions, TileTimingsMs } from '../workers/contract.ts';
 import type { TilePlan } from '../web/core/tiling.ts';
 import { centredBlock, tileScenePx } from './tile-subset.ts';
+import { BandQueue } from '../web/app/tile-queue.ts';
 import { makeMergeTables, totalRows } from './merge-data.ts';
 
 export interface TileRunSpec {
@@ -51,11 +52,12 @@ export async function runTiles(spec: TileRunSpec): Promise<TileRunFigures> {
     const task = (tileIndex: number) => ({ runId: 'bench', sceneKey: 'bench', input, prepare, tileIndex });
     // warm-up: one tile per worker (onnxruntime's first runs allocate), from outside the timed block
     await Promise.all(handles.map((h, i) => h.api.detectTile(task(plan.tiles[i % plan.tiles.length].index)).then(unwrap)));
-    const queue = tiles.map((t) => t.index);
+    // the app's hand-out (web/app/tile-queue.ts): contiguous bands per worker, work stealing at the end
+    const queue = new BandQueue(tiles.map((t) => t.index), handles.length);
     const timings: TileTimingsMs = { readMs: 0, resampleMs: 0, inferMs: 0, decodeMs: 0 };
     const t0 = performance.now();
-    await Promise.all(handles.map(async (h) => {
-      for (let idx = queue.shift(); idx !== undefined; idx = queue.shift()) {
+    await Promise.all(handles.map(async (h, w) => {
+      for (let idx = queue.take(w); idx !== undefined; idx = queue.take(w)) {
         const r = unwrap(await h.api.detectTile(task(idx)));
         for (const k of Object.keys(timings) as (keyof TileTimingsMs)[]) timings[k] += r.timingsMs[k];
       }

@@ -1,11 +1,13 @@
-// The detector worker pool: N workers (default navigator.hardwareConcurrency), each with the model loaded,
-// fed one tile at a time from a shared queue; a worker that dies or hangs is replaced and its tile retried
+// The detector worker pool: N workers (default navigator.hardwareConcurrency), each with the model loaded, fed one
+// tile at a time from its own contiguous band of the raster order (tile-queue.ts: neighbours share decoded file
+// tiles, so each worker's cache serves them); a worker that dies or hangs is replaced and its tile retried
 // (bounded), after which the tile is reported failed — every task ends in exactly one of done / failed.
 import type { Remote } from 'comlink';
 import type { DetectorApi, TileDetections, TileTask } from '../../workers/contract.ts';
 import { spawnDetector, type WorkerHandle } from '../../workers/spawn.ts';
 import type { ModelEntry } from './state.ts';
 import type { FaultPlan } from './faults.ts';
+import { BandQueue } from './tile-queue.ts';
 import { fromErrorInfo, SeamtallyError, type ErrorInfo, type Result } from '../core/errors.ts';
 
 interface Slot { handle: WorkerHandle<DetectorApi>; modelReady: Promise<void> | null }
@@ -98,15 +100,16 @@ export class DetectorPool {
   /** Run tasks on all workers until the queue is empty or `signal` aborts. Each task ends in done or failed. */
   async runTasks(tasks: TileTask[], cb: PoolCallbacks, signal: AbortSignal): Promise<void> {
     if (!this.model) throw new SeamtallyError('model-invalid', 'No detector is loaded: load one before running.');
-    const queue: QueueItem[] = tasks.map((task) => ({ task, attempts: 0, ordinal: 0 }));
+    const queue = new BandQueue<QueueItem>(tasks.map((task) => ({ task, attempts: 0, ordinal: 0 })), this.slots.length);
     let dispatched = 0;
     const aborted = new Promise<never>((_, reject) => signal.addEventListener('abort', () => reject(new Error('aborted')), { once: true }));
     aborted.catch(() => {});
     const runSlot = async (idx: number) => {
-      while (queue.length > 0 && !signal.aborted) {
-        const item = queue.shift()!;
+      while (!signal.aborted) {
+        const item = queue.take(idx);
+        if (!item) return;
         const slot = this.slots[idx];
-        if (!slot) { queue.unshift(item); return; }
+        if (!slot) { queue.putFront(idx, item); return; }
         item.attempts++;
         if (item.attempts === 1) item.ordinal = ++dispatched;
         let r: Result<TileDetections>;
@@ -117,13 +120,13 @@ export class DetectorPool {
           if (signal.aborted) return;
           slot.handle.terminate();
           this.slots[idx] = this.newSlot();
-          if (item.attempts < MAX_TILE_ATTEMPTS) queue.push(item);
+          if (item.attempts < MAX_TILE_ATTEMPTS) queue.putBack(idx, item);
           else cb.failed(item.task, { kind: 'internal', message: `its worker failed ${MAX_TILE_ATTEMPTS} times (last: ${err instanceof Error ? err.message : String(err)}), so this tile is counted as not imaged: its area is left out of coverage. Run again to retry it.`, detail: {} });
           continue;
         }
         if (r.ok) { await cb.done(item.task, r.value); continue; }
         if (r.error.kind === 'cancelled' && signal.aborted) return;
-        if (r.error.kind === 'internal' && item.attempts < MAX_TILE_ATTEMPTS) { queue.push(item); continue; }
+        if (r.error.kind === 'internal' && item.attempts < MAX_TILE_ATTEMPTS) { queue.putBack(idx, item); continue; }
         cb.failed(item.task, r.error);
       }
     };

@@ -7,12 +7,14 @@ import type { PixelBox } from './types.ts';
  * - Planning happens in MODEL pixels over the scene resampled to the model's GSD: scale = sceneGsdM / modelGsdM,
  *   model x = scene x × scale. The resampled grid is modelWidthPx = ceil(sceneWidthPx × scale) wide (same for
  *   height), so it may reach up to one model pixel past the scene's far edge; that sliver reads as nodata.
- * - Cores are half-open boxes [min, max) on a regular grid of step corePx = tilePx − 2·overlapPx. They partition the
- *   resampled scene exactly: every model pixel lies in exactly one core. Cores in the last column/row are narrower.
- * - A window is the core grown by overlapPx on each side. At scene edges the window is SHIFTED inward (not clipped)
- *   so it stays tilePx wide: no inference is wasted on padding and the core keeps ≥ overlapPx of context on its
- *   inner side. Only when the scene itself is smaller than tilePx along an axis is the window the whole scene
- *   along that axis; the pipeline then pads the model input (right/bottom) to tilePx.
+ * - Windows are tilePx wide, the fewest per axis that give every core ≥ overlapPx of context inside the scene:
+ *   n = ceil((extent − 2·overlapPx) / (tilePx − 2·overlapPx)), starts spread evenly from 0 to extent − tilePx (so
+ *   no thin edge core with a window shifted over its neighbour's). Cores are half-open boxes [min, max) that
+ *   partition the resampled scene exactly: every model pixel lies in exactly one core; a core boundary lies in the
+ *   middle of its two windows' overlap, so each window holds its core grown by ≥ overlapPx (clipped at scene
+ *   edges). No core is wider than tilePx − 2·overlapPx inside the scene, tilePx − overlapPx at its edges. Only when
+ *   the scene itself is smaller than tilePx along an axis is the window the whole scene along that axis; the
+ *   pipeline then pads the model input (right/bottom) to tilePx.
  * - overheadRatio = Σ window pixels / scene pixels, both in model pixels (padding is not counted).
  */
 
@@ -37,7 +39,7 @@ export interface PlannedTile {
   row: number;
   /** The tile's core in model pixels (half-open). A detection belongs to the tile whose core holds its centre. */
   corePx: PixelBox;
-  /** Core grown by the overlap (shifted inward at scene edges), model pixels (half-open). The model's input. */
+  /** tilePx wide, holding the core grown by ≥ overlapPx (clipped at scene edges), model pixels (half-open). The model's input. */
   windowModelPx: PixelBox;
   /** The same window in scene pixels (exact floats): windowModelPx / scale. */
   windowScenePx: PixelBox;
@@ -56,7 +58,7 @@ export interface TilePlan {
   modelHeightPx: number;
   tilePx: number;
   overlapPx: number;
-  /** Core step: tilePx − 2·overlapPx. */
+  /** Largest interior core width (and largest window spacing): tilePx − 2·overlapPx. */
   coreStepPx: number;
   cols: number;
   rows: number;
@@ -87,21 +89,29 @@ function positive(name: string, v: number): void {
   }
 }
 
-/** Core starts along one axis plus, for each, the window start (shifted inward) and length. */
+/**
+ * Cores and windows along one axis. The fewest windows of tilePx that give every core ≥ overlapPx of context on its
+ * inner sides: n = ceil((extent − 2·overlap) / (tilePx − 2·overlap)) (edge cores need no context towards the scene
+ * edge). Window starts are spread evenly from 0 to extent − tilePx (spacing ≤ the core step), and each core boundary
+ * sits in the middle of the two neighbouring windows' overlap, so both windows reach ≥ overlapPx past it.
+ */
 function axisPlan(extentPx: number, tilePx: number, overlapPx: number, stepPx: number) {
   // A scene no larger than one tile is one tile: several cores would share the same window.
-  const n = extentPx <= tilePx ? 1 : Math.ceil(extentPx / stepPx);
+  if (extentPx <= tilePx) return { n: 1, core: [[0, extentPx]] as Array<[number, number]>, win: [[0, extentPx]] as Array<[number, number]> };
+  const n = Math.max(2, Math.ceil((extentPx - 2 * overlapPx) / stepPx - 1e-9));
+  const starts: number[] = [];
+  for (let k = 0; k < n; k++) starts.push(Math.round((k * (extentPx - tilePx)) / (n - 1)));
+  const bounds = [0];
+  for (let k = 0; k + 1 < n; k++) {
+    const sharedPx = starts[k] + tilePx - starts[k + 1]; // ≥ 2·overlapPx because the spacing is ≤ stepPx
+    bounds.push(starts[k + 1] + Math.floor(sharedPx / 2));
+  }
+  bounds.push(extentPx);
   const core: Array<[number, number]> = [];
   const win: Array<[number, number]> = [];
   for (let k = 0; k < n; k++) {
-    const c0 = k * stepPx;
-    const c1 = n === 1 ? extentPx : Math.min(extentPx, c0 + stepPx);
-    core.push([c0, c1]);
-    if (extentPx <= tilePx) { win.push([0, extentPx]); continue; }
-    let w0 = c0 - overlapPx;
-    if (w0 < 0) w0 = 0;
-    if (w0 + tilePx > extentPx) w0 = extentPx - tilePx;
-    win.push([w0, w0 + tilePx]);
+    core.push([bounds[k], bounds[k + 1]]);
+    win.push([starts[k], starts[k] + tilePx]);
   }
   return { n, core, win };
 }

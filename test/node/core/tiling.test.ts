@@ -85,10 +85,38 @@ describe('planTiles', () => {
       let inferred = 0;
       for (const t of plan.tiles) inferred += (t.windowModelPx.maxXPx - t.windowModelPx.minXPx) * (t.windowModelPx.maxYPx - t.windowModelPx.minYPx);
       expect(plan.overheadRatio).toBeCloseTo(inferred / (16000 * 16000), 12);
-      expect(plan.tiles.length).toBe(Math.ceil(16000 / plan.coreStepPx) ** 2);
+      expect(plan.tiles.length).toBe(Math.ceil((16000 - 2 * plan.overlapPx) / plan.coreStepPx) ** 2);
       rows.push(`tile ${tilePx}, extent ${extentM} m → overlap ${plan.overlapPx} px, ${plan.tiles.length} tiles, overhead ${plan.overheadRatio.toFixed(3)}`);
     }
     console.log(rows.join('\n'));
+  });
+
+  it('fewest tiles for the overlap: n = ceil((extent − 2·overlap) / (tile − 2·overlap)) per axis, no thin edge cores', () => {
+    // Lower bound (self-consistency, common practice, no source): n windows of T px whose neighbours share ≥ 2·ov px
+    // cover at most n·(T − 2·ov) + 2·ov px, so no plan needs fewer; overhead ≥ (T / (T − 2·ov))² for large scenes.
+    for (const extentPx of [4000, 4200, 8000, 16000, 1337]) {
+      const plan = planTiles({ sceneWidthPx: extentPx, sceneHeightPx: extentPx, sceneGsdM: 0.3, modelGsdM: 0.3, tilePx: 512, maxObjectExtentM: 0, overlapPx: 50 });
+      const n = Math.ceil((extentPx - 100) / 412);
+      expect(plan.cols).toBe(n);
+      expect(plan.rows).toBe(n);
+      const cols = plan.tiles.filter((t) => t.row === 0);
+      for (const [i, t] of cols.entries()) {
+        const w = t.corePx.maxXPx - t.corePx.minXPx;
+        expect(w).toBeLessThanOrEqual(i === 0 || i === n - 1 ? 512 - 50 : 412);
+        // evenly spread: every core is at least the even window spacing (extent − tile) / (n − 1), less rounding
+        expect(w).toBeGreaterThanOrEqual(Math.floor((extentPx - 512) / (n - 1)) - 1);
+        if (i > 0) expect(t.windowModelPx.minXPx - cols[i - 1].windowModelPx.minXPx).toBeLessThanOrEqual(412);
+      }
+    }
+    // 4 200 px: the old fixed-step grid needed ceil(4200 / 412) = 11 tiles per axis (a 80 px sliver last), now 10.
+    expect(planTiles({ sceneWidthPx: 4200, sceneHeightPx: 4200, sceneGsdM: 0.3, modelGsdM: 0.3, tilePx: 512, maxObjectExtentM: 0, overlapPx: 50 }).cols).toBe(10);
+  });
+
+  it('overhead of a 16 000² scene at 0.3 m, tile 512, overlap 50 is within 1 % of the bound (512 / 412)²', () => {
+    const plan = planTiles({ sceneWidthPx: 16000, sceneHeightPx: 16000, sceneGsdM: 0.3, modelGsdM: 0.3, tilePx: 512, maxObjectExtentM: 0, overlapPx: 50 });
+    const bound = (512 / (512 - 2 * 50)) ** 2; // 1.544
+    expect(plan.overheadRatio).toBeGreaterThanOrEqual(bound - 1e-9);
+    expect(plan.overheadRatio).toBeLessThanOrEqual(bound + 0.02); // 39² tiles: (39 · 512 / 16000)² = 1.5575
   });
 
   it('tilesTouching keeps the tiles a predicate selects (e.g. skip nodata) and reports their overhead', () => {
