@@ -1,6 +1,7 @@
 // Invented detections for the merge benchmark: n oriented boxes cut into per-tile tables with duplicates at seams.
 // Pure (no DOM, no Node APIs): the same tables are merged in Node and in the browser's tally worker.
 import { createDetectionTable, type DetectionTable } from '../web/core/types.ts';
+import { mulberry32 as rng } from '../test/helpers/mulberry32.ts';
 
 export interface MergeDataOptions {
   /** Share of objects seen twice (two tiles' detections of one object near a seam). Default 0.1. */
@@ -10,17 +11,6 @@ export interface MergeDataOptions {
   seed?: number;
 }
 
-/** mulberry32: a small deterministic generator. */
-function rng(seed: number): () => number {
-  let s = seed >>> 0;
-  return () => {
-    s = (s + 0x6d2b79f5) >>> 0;
-    let t = s;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 /**
  * `n` detections in total (objects plus their duplicates): vehicles (4.5 × 1.8 m) and a few solar arrays

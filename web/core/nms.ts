@@ -1,15 +1,9 @@
 // Class-aware greedy NMS and Soft-NMS over oriented boxes; candidates from candidate-index.ts (grids + rbush).
-import { CandidateIndex } from './candidate-index.ts';
+import { CandidateIndex, type BoxColumns } from './candidate-index.ts';
 import { rotatedIoUFlat } from './oriented-box.ts';
 
 /** Box columns NMS reads; a `DetectionTable` satisfies it. Units are whatever the frame uses (metres on the ground). */
-export interface NmsBoxColumns {
-  count: number;
-  cxM: ArrayLike<number>;
-  cyM: ArrayLike<number>;
-  lengthM: ArrayLike<number>;
-  widthM: ArrayLike<number>;
-  angleRad: ArrayLike<number>;
+export interface NmsBoxColumns extends BoxColumns {
   score: ArrayLike<number>;
   classIdx: ArrayLike<number>;
 }

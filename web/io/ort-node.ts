@@ -4,6 +4,7 @@ import { SeamtallyError } from '../core/errors.ts';
 import { checkModelIO, type ModelDim, type ModelSidecar } from '../core/model-contract.ts';
 import type { InferFn } from '../core/pipeline.ts';
 import type { TensorLike } from '../core/decode-outputs.ts';
+import { modelLoadFailure } from '../core/model-load-failure.ts';
 
 export interface NodeModelOptions {
   /** intraOpNumThreads (default 1). */
@@ -19,23 +20,6 @@ export interface NodeModel {
   close(): Promise<void>;
 }
 
-/** A one-sentence 'model-invalid' error for a model onnxruntime refused to load (operator, opset, damage). */
-function loadFailure(err: unknown, byteLength: number): SeamtallyError {
-  const msg = err instanceof Error ? err.message : String(err);
-  const op = /No Op registered for (\S+)/.exec(msg);
-  if (op) {
-    return new SeamtallyError('model-invalid', `The .onnx file uses the operator "${op[1]}", which onnxruntime cannot run: export the model again with standard ONNX operators (for example opset 17).`);
-  }
-  const opset = /\bOpset (\d+)/i.exec(msg);
-  if (opset) {
-    return new SeamtallyError('model-invalid', `The .onnx file is stamped with ONNX opset ${opset[1]}, which this onnxruntime does not support: export the model again with a released opset and standard ONNX operators (for example opset 17).`);
-  }
-  if (byteLength === 0) return new SeamtallyError('model-invalid', 'The .onnx file is empty: copy the model file again.');
-  // first line, without the C++ source location onnxruntime sometimes puts in front
-  const first = msg.split('\n')[0].replace(/^\S*onnxruntime\S*:\d+\s+\S.*?\)\s+/, '').slice(0, 200);
-  return new SeamtallyError('model-invalid', `The .onnx file could not be loaded by onnxruntime (${first}): check that it is an ONNX model and not damaged.`);
-}
-
 /** Open `modelBytes` (the .onnx file) with onnxruntime-node and check its inputs and outputs against the sidecar. */
 export async function openNodeModel(modelBytes: Uint8Array, sidecar: ModelSidecar, opts: NodeModelOptions = {}): Promise<NodeModel> {
   let session: ort.InferenceSession;
@@ -47,7 +31,7 @@ export async function openNodeModel(modelBytes: Uint8Array, sidecar: ModelSideca
       graphOptimizationLevel: 'all',
     });
   } catch (err) {
-    throw loadFailure(err, modelBytes.length);
+    throw modelLoadFailure(err, modelBytes.length);
   }
   const dims = (meta: readonly ort.InferenceSession.ValueMetadata[]): Record<string, ModelDim[] | undefined> => {
     const out: Record<string, ModelDim[] | undefined> = {};

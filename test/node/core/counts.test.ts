@@ -8,17 +8,8 @@ import { crsToLonLat, lonLatToCrs } from '../../../web/core/crs.ts';
 import { multiPolygonAreaM2 } from '../../../web/core/geodesic-area.ts';
 import { COUNTING_RULE } from '../../../web/core/point-in-polygon.ts';
 import { createDetectionTable, type ReviewState } from '../../../web/core/types.ts';
+import { mulberry32 as rng } from '../../helpers/mulberry32.ts';
 
-function rng(seed: number) {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 const lotA = [[[13.400, 52.500], [13.404, 52.500], [13.404, 52.503], [13.400, 52.503], [13.400, 52.500]],
   [[13.401, 52.501], [13.402, 52.501], [13.402, 52.502], [13.401, 52.502], [13.401, 52.501]]];

@@ -1,5 +1,6 @@
 // Tests for eval-metrics.ts: VOC matching, all-point AP against a published worked example and an independent brute force.
 import { describe, expect, it } from 'vitest';
+import { mulberry32 as rng } from '../../helpers/mulberry32.ts';
 import {
   classQuality, matchVoc, prCurve, relativeCountError, vocAllPointAp,
   type EvalDetection, type EvalTruth,
@@ -10,17 +11,6 @@ function box(sceneIdx: number, x: number, y: number, l: number, w: number, extra
   return { sceneIdx, classIdx: 0, cxM: x, cyM: y, lengthM: l, widthM: w, angleRad: 0, score: 0, ...extra };
 }
 
-/** Deterministic PRNG (mulberry32) for randomised cases. */
-function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 describe('vocAllPointAp', () => {
   it('matches the published worked example (24 detections, 15 objects: every-point AP 24.56 %)', () => {

@@ -4,6 +4,7 @@ import * as ort from 'onnxruntime-node';
 import { greedyNms, softNms, type NmsBoxColumns } from '../../../web/core/nms.ts';
 import { nmsModelBytes } from './onnx-nms-model.ts';
 import { rotatedIoU } from '../../../web/core/oriented-box.ts';
+import { mulberry32 } from '../../helpers/mulberry32.ts';
 
 /** ONNX corner boxes [y1, x1, y2, x2] (center_point_box = 0, either diagonal) → NMS columns, one class. */
 function fromOnnxCorners(boxes: number[][], scores: number[], classIdx?: number[]): NmsBoxColumns {
@@ -55,16 +56,6 @@ describe('greedyNms vs the ONNX NonMaxSuppression reference cases', () => {
   });
 });
 
-function mulberry32(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 describe('greedyNms vs onnxruntime-node NonMaxSuppression on random box sets', () => {
   let session: ort.InferenceSession;

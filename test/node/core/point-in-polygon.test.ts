@@ -6,18 +6,8 @@ import {
   BOUNDARY, INSIDE, OUTSIDE, pointInMultiPolygon, pointInPolygon, pointInRing, prepareMultiPolygon,
 } from '../../../web/core/point-in-polygon.ts';
 import type { MapXY } from '../../../web/core/types.ts';
+import { mulberry32 as rng } from '../../helpers/mulberry32.ts';
 
-/** mulberry32: small seeded PRNG (public-domain algorithm), so the random cases are the same every run. */
-function rng(seed: number) {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 /** Random star-shaped ring around (cx, cy), counter-clockwise, closed. */
 function star(r: () => number, cx: number, cy: number, rMin: number, rMax: number, n: number, clockwise = false): MapXY[] {
