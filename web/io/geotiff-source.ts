@@ -79,7 +79,40 @@ export async function openGeoTiffUrl(url: string, opts: GeoTiffSourceOptions = {
   const name = opts.name ?? (url.split('/').pop() || url);
   // blockSize/cacheSize reach geotiff's BlockedSource at runtime; its .d.ts types RemoteSourceOptions without them.
   const remote = { blockSize: 1 << 20, cacheSize: 32 } as Parameters<typeof fromUrl>[1];
+  await probeRangeSupport(url, opts.signal);
   return openTiff(() => fromUrl(url, remote, opts.signal), { ...opts, name });
+}
+
+/**
+ * Ask once for the first KiB (RFC 9110 §14: a server that honours ranges answers 206; one that ignores them, 200 with
+ * the whole file) so an unusable URL fails in one sentence instead of being downloaded whole or hanging.
+ */
+async function probeRangeSupport(url: string, signal?: AbortSignal): Promise<void> {
+  let res: Response;
+  try {
+    res = await fetch(url, { headers: { Range: 'bytes=0-1023' }, signal });
+  } catch (err) {
+    if (err instanceof Error && err.name === 'AbortError') throw err;
+    // Browsers reject with a bare TypeError for a CORS refusal and an unreachable host alike (Fetch standard §4.1).
+    throw new SeamtallyError('network', `The scene at ${url} could not be fetched: the server is unreachable or does not allow this page to read it (CORS). Ask its owner to allow cross-origin range requests (Access-Control-Allow-Origin, and Access-Control-Expose-Headers: Content-Range), or download it and open it from disk.`, { url, cause: err instanceof Error ? err.message : String(err) });
+  }
+  if (res.status === 206) {
+    await res.body?.cancel().catch(() => {});
+    return;
+  }
+  await res.body?.cancel().catch(() => {});
+  if (res.status === 200) {
+    throw new SeamtallyError('range-unsupported', `The server at ${originOf(url)} sent the whole file instead of the part asked for (it ignores HTTP range requests), so seamtally cannot read this scene window by window: serve it from a server that supports range requests (most static servers and object stores do), or download it and open it from disk.`, { url, status: res.status });
+  }
+  throw new SeamtallyError('network', `The scene at ${url} could not be fetched: the server answered HTTP ${res.status}${res.statusText ? ` (${res.statusText})` : ''}. Check the address, or download the file and open it from disk.`, { url, status: res.status });
+}
+
+function originOf(url: string): string {
+  try {
+    return new URL(url).origin;
+  } catch {
+    return url;
+  }
 }
 
 /** Open a file path (Node only: geotiff's fromFile). Pass `byteLength` (fs.statSync(path).size) and `head` for checks. */
