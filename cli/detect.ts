@@ -13,9 +13,10 @@ import { multiPolygonAreaM2 } from '../web/core/geodesic-area.ts';
 import { parseSidecar, type ModelSidecar } from '../web/core/model-contract.ts';
 import { prepareScene, runFrameEpsg, runScene, type ScenePipeline, type TileTimings } from '../web/core/pipeline.ts';
 import { COUNTING_RULE } from '../web/core/point-in-polygon.ts';
-import { pickOverviewLevel, type SceneSource } from '../web/core/scene-source.ts';
+import type { SceneSource } from '../web/core/scene-source.ts';
 import { mergeDetectionTables } from '../web/core/seam-merge.ts';
 import type { DetectionTable } from '../web/core/types.ts';
+import { readValidMask } from '../web/core/valid-mask.ts';
 import { openGeoTiffPath } from '../web/io/geotiff-source.ts';
 import { openNodeModel } from '../web/io/ort-node.ts';
 
@@ -111,26 +112,16 @@ async function openScene(path: string): Promise<SceneSource> {
   return openGeoTiffPath(path, { byteLength: statSync(path).size, head });
 }
 
-/** A scene's valid-pixel mask from an overview (or the scene itself when small; else its footprint only). */
+/** A scene's coverage mask: the core's valid-pixel rule (valid-mask.ts, shared with the browser workers). */
 async function coverageMask(src: SceneSource, frameEpsg: number): Promise<CoverageMask> {
   const info = src.info;
-  const level = pickOverviewLevel(info, 256);
-  const sz = level === 0 ? info : info.overviews[level - 1];
-  const small = Math.max(sz.widthPx, sz.heightPx) <= 2048;
-  let validMask = new Uint8Array([1]);
-  let w = 1, h = 1;
-  if (small && info.nodata !== null) {
-    const win = await src.readWindow({ minXPx: 0, minYPx: 0, maxXPx: sz.widthPx, maxYPx: sz.heightPx }, { overviewLevel: level });
-    w = sz.widthPx; h = sz.heightPx;
-    validMask = new Uint8Array(w * h);
-    for (const b of win.bands) for (let i = 0; i < w * h; i++) if (b[i] !== info.nodata) validMask[i] = 1;
-    if (!validMask.includes(1)) {
-      throw new SeamtallyError('all-nodata', `"${info.name}" has no valid pixels (every pixel is the nodata value ${info.nodata}), so there is nothing to count: check that you picked the right scene, and its nodata value with gdalinfo.`, { name: info.name });
-    }
+  const mask = await readValidMask(src);
+  if (!mask.validMask.includes(1)) {
+    throw new SeamtallyError('all-nodata', `"${info.name}" has no valid pixels (every pixel is the nodata value ${info.nodata}), so there is nothing to count: check that you picked the right scene, and its nodata value with gdalinfo.`, { name: info.name });
   }
   return {
     frameToScenePx: frameToScenePxMapping(info.georef.geoTransform, info.georef.epsg, frameEpsg),
-    sceneWidthPx: info.widthPx, sceneHeightPx: info.heightPx, validMask, maskWidth: w, maskHeight: h,
+    sceneWidthPx: info.widthPx, sceneHeightPx: info.heightPx, ...mask,
   };
 }
 
