@@ -1,27 +1,28 @@
 // The acquisition footprint: a rotated, inset rectangle; pixels whose centre lies outside it are nodata (the collar).
 import type { SceneParams } from './scene-params.ts';
 
+/** The footprint's centre, half-sizes and rotation in pixel coordinates. */
+function footprintFrame(p: SceneParams) {
+  const a = (p.footprintRotDeg * Math.PI) / 180;
+  return {
+    cx: p.widthPx / 2,
+    cy: p.heightPx / 2,
+    hw: (p.widthPx / 2) * (1 - p.footprintInset),
+    hh: (p.heightPx / 2) * (1 - p.footprintInset),
+    c: Math.cos(a),
+    s: Math.sin(a),
+  };
+}
+
 /** Footprint corners in pixel coordinates (x right, y down), counter-clockwise on the map. */
 export function footprintCornersPx(p: SceneParams): [number, number][] {
-  const cx = p.widthPx / 2;
-  const cy = p.heightPx / 2;
-  const hw = (p.widthPx / 2) * (1 - p.footprintInset);
-  const hh = (p.heightPx / 2) * (1 - p.footprintInset);
-  const a = (p.footprintRotDeg * Math.PI) / 180;
-  const c = Math.cos(a);
-  const s = Math.sin(a);
+  const { cx, cy, hw, hh, c, s } = footprintFrame(p);
   return [[-hw, hh], [hw, hh], [hw, -hh], [-hw, -hh]].map(([x, y]) => [cx + x * c - y * s, cy + x * s + y * c]);
 }
 
 /** A test for pixel (xPx, yPx): true when its centre lies inside the footprint. */
 export function footprintTest(p: SceneParams): (xPx: number, yPx: number) => boolean {
-  const cx = p.widthPx / 2;
-  const cy = p.heightPx / 2;
-  const hw = (p.widthPx / 2) * (1 - p.footprintInset);
-  const hh = (p.heightPx / 2) * (1 - p.footprintInset);
-  const a = (p.footprintRotDeg * Math.PI) / 180;
-  const c = Math.cos(a);
-  const s = Math.sin(a);
+  const { cx, cy, hw, hh, c, s } = footprintFrame(p);
   return (xPx, yPx) => {
     const dx = xPx + 0.5 - cx;
     const dy = yPx + 0.5 - cy;
