@@ -105,16 +105,13 @@ export function pickOverviewLevel(info: SceneInfo, minLongSidePx: number): numbe
   return best;
 }
 
+/** The typed-array constructor of each dtype: `new SAMPLE_ARRAY[dtype](lengthOrBuffer)`. */
+export const SAMPLE_ARRAY: Record<SampleDtype, { new (lengthOrBuffer: number | ArrayBufferLike): SampleArray }> = {
+  uint8: Uint8Array, int8: Int8Array, uint16: Uint16Array, int16: Int16Array,
+  uint32: Uint32Array, int32: Int32Array, float32: Float32Array, float64: Float64Array,
+};
+
 /** Allocate a typed array of a dtype. */
 export function allocSamples(dtype: SampleDtype, length: number): SampleArray {
-  switch (dtype) {
-    case 'uint8': return new Uint8Array(length);
-    case 'int8': return new Int8Array(length);
-    case 'uint16': return new Uint16Array(length);
-    case 'int16': return new Int16Array(length);
-    case 'uint32': return new Uint32Array(length);
-    case 'int32': return new Int32Array(length);
-    case 'float32': return new Float32Array(length);
-    case 'float64': return new Float64Array(length);
-  }
+  return new SAMPLE_ARRAY[dtype](length);
 }

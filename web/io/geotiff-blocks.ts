@@ -3,7 +3,7 @@
 // DEFLATE; 8/16/32-bit integer or float samples; little-endian or 8-bit) we decode the block's bytes with geotiff's
 // own decoder and de-interleave with typed arrays. Everything else goes through readRasters/readRGB.
 import { getDecoder, type GeoTIFFImage } from 'geotiff';
-import { allocSamples, type SampleArray, type SampleDtype } from '../core/scene-source.ts';
+import { allocSamples, SAMPLE_ARRAY, type SampleArray, type SampleDtype } from '../core/scene-source.ts';
 
 type Decoder = Awaited<ReturnType<typeof getDecoder>>;
 const FAST_COMPRESSIONS = new Set([1, 5, 8, 32946]);
@@ -33,18 +33,7 @@ export async function fastBlockReader(img: GeoTIFFImage, dtype: SampleDtype, ban
   } as ConstructorParameters<typeof import('geotiff').BaseDecoder>[0]);
   const tw = img.getTileWidth();
   const th = img.getTileHeight();
-  const view = (buf: ArrayBufferLike) => {
-    switch (dtype) {
-      case 'uint8': return new Uint8Array(buf);
-      case 'int8': return new Int8Array(buf);
-      case 'uint16': return new Uint16Array(buf);
-      case 'int16': return new Int16Array(buf);
-      case 'uint32': return new Uint32Array(buf);
-      case 'int32': return new Int32Array(buf);
-      case 'float32': return new Float32Array(buf);
-      case 'float64': return new Float64Array(buf);
-    }
-  };
+  const view = (buf: ArrayBufferLike) => new SAMPLE_ARRAY[dtype](buf);
   return {
     async read(x0, y0, x1, y1, signal) {
       const w = x1 - x0, h = y1 - y0;
