@@ -19,6 +19,10 @@ def sidecar(name, min_score, version):
         "classes": CLASSES,
         "inputGsdM": 0.3,
         "tilePx": 512,
+        # dynamic H, W: the planner may pick tiles up to 1536 px (about 220 MB per onnxruntime session) to keep the
+        # overlap share low; windows start on multiples of the network's total stride 32
+        "maxTilePx": 1536,
+        "tileAlignPx": 32,
         "input": {"name": "image", "bands": "rgb", "scale": 1 / 255, "mean": [0, 0, 0], "std": [1, 1, 1]},
         "output": {"layout": "center-heatmap", "stride": STRIDE, "heatmap": OUTPUT_NAMES[0], "size": OUTPUT_NAMES[1],
                    "offset": OUTPUT_NAMES[2], "angle": OUTPUT_NAMES[3]},

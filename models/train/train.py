@@ -137,6 +137,8 @@ def main():
     ap.add_argument("--solar-frac", type=float, default=0.0, help="share of chips drawn from those with arrays")
     ap.add_argument("--shadow-p", type=float, default=0.0, help="chance of unlabelled fake cast shadows per chip")
     ap.add_argument("--warmup", type=int, default=150, help="warm-up steps")
+    ap.add_argument("--freeze-bn", action="store_true",
+                    help="keep BatchNorm in inference mode (needed when --init comes from from_onnx.py)")
     a = ap.parse_args()
     torch.set_num_threads(a.threads)
     torch.manual_seed(a.seed)
@@ -161,6 +163,10 @@ def main():
         for g in opt.param_groups:
             g["lr"] = lr
         model.train()
+        if a.freeze_bn:
+            for mod in model.modules():
+                if isinstance(mod, torch.nn.BatchNorm2d):
+                    mod.eval()
         batch = make_batch(pool, rng, a.bs, a.px, weights, set(a.synth), a.strong_aug, a.solar_frac, a.shadow_p)
         l_hm, l_size, l_off, l_ang = losses(model, batch)
         loss = l_hm + 0.5 * l_size + l_off + 0.5 * l_ang

@@ -11,6 +11,13 @@ import { SeamtallyError } from './errors.ts';
  *   "classes": ["vehicle", "solar_panel"],         required, 1–255 unique non-empty strings; class index = position
  *   "inputGsdM": 0.3,                              required, metres per input pixel, 0 < g ≤ 10
  *   "tilePx": 512,                                 required, square input size, integer 32–4096
+ *   "maxTilePx": 1536,                             optional, integer tilePx–4096, a multiple of tileAlignPx: the
+ *                                                  model also takes square inputs up to this size (dynamic H, W);
+ *                                                  the planner may then pick a larger tile to keep overlap low
+ *   "tileAlignPx": 32,                             optional, integer 1–512 dividing tilePx (default: the output
+ *                                                  stride, 1 for "boxes"): the network's total downsampling; tile
+ *                                                  windows start on multiples of it so every tiling shows the
+ *                                                  network the same pixel phase
  *   "input": {
  *     "name": "image",                             required, the ONNX input's name
  *     "bands": "rgb",                              required, "rgb": a float32 tensor [1, 3, tilePx, tilePx], R,G,B
@@ -73,6 +80,10 @@ export interface ModelSidecar {
   classes: string[];
   inputGsdM: number;
   tilePx: number;
+  /** Largest square input the model takes (dynamic H, W); absent: only tilePx. */
+  maxTilePx?: number;
+  /** The network's total downsampling: tile windows start on multiples of it. Absent: `tileAlignPxOf`. */
+  tileAlignPx?: number;
   input: { name: string; bands: 'rgb'; scale: number; mean: [number, number, number]; std: [number, number, number] };
   output: SidecarOutput;
   minScore?: number;
@@ -154,6 +165,11 @@ function parseQuality(v: unknown, classes: string[]): QualityCurves {
   return out;
 }
 
+/** Window alignment for a model: its tileAlignPx, else the heatmap's output stride, else 1. */
+export function tileAlignPxOf(sc: ModelSidecar): number {
+  return sc.tileAlignPx ?? (sc.output.layout === 'center-heatmap' ? sc.output.stride : 1);
+}
+
 /** Validate an already-parsed sidecar value. Throws SeamtallyError('sidecar-invalid') naming the first bad field. */
 export function validateSidecar(value: unknown): ModelSidecar {
   const s = obj(value, '(top level)');
@@ -173,6 +189,15 @@ export function validateSidecar(value: unknown): ModelSidecar {
     },
     output: parseOutput(s.output, tilePx),
   };
+  if (s.tileAlignPx !== undefined) {
+    out.tileAlignPx = int(s.tileAlignPx, 'tileAlignPx', 1, 512);
+    if (tilePx % out.tileAlignPx !== 0) fail('tileAlignPx', `a divisor of tilePx (${tilePx})`);
+  }
+  if (s.maxTilePx !== undefined) {
+    out.maxTilePx = int(s.maxTilePx, 'maxTilePx', tilePx, 4096);
+    const a = out.tileAlignPx ?? 1;
+    if (out.maxTilePx % a !== 0) fail('maxTilePx', `a multiple of tileAlignPx (${a})`);
+  }
   const name = optStr(s.name, 'name'); if (name !== undefined) out.name = name;
   const version = optStr(s.version, 'version'); if (version !== undefined) out.version = version;
   const card = optStr(s.card, 'card'); if (card !== undefined) out.card = card;
@@ -248,7 +273,12 @@ export function dimsFromMetadata(meta: ReadonlyArray<{ name: string; isTensor: b
 /** Check the ONNX session's names and (where known) shapes against the sidecar. Throws 'model-mismatch'. */
 export function checkModelIO(sc: ModelSidecar, io: ModelIO): void {
   if (!io.inputNames.includes(sc.input.name)) mismatch('input.name', `the model has no input "${sc.input.name}" (it has ${io.inputNames.join(', ') || 'none'})`);
-  checkDims('input.name', io.inputDims?.[sc.input.name], [null, 3, sc.tilePx, sc.tilePx]);
+  const inDims = io.inputDims?.[sc.input.name];
+  checkDims('input.name', inDims, [null, 3, sc.tilePx, sc.tilePx]);
+  if (sc.maxTilePx !== undefined && sc.maxTilePx > sc.tilePx && inDims && inDims.length === 4
+    && [inDims[2], inDims[3]].some((d) => typeof d === 'number' && d >= 0)) {
+    mismatch('maxTilePx', `the model's input is fixed at ${inDims[2]} × ${inDims[3]}, so it cannot take tiles up to ${sc.maxTilePx} px; drop maxTilePx`);
+  }
   const o = sc.output;
   const has = (field: string, name: string) => {
     if (!io.outputNames.includes(name)) mismatch(field, `the model has no output "${name}" (it has ${io.outputNames.join(', ') || 'none'})`);

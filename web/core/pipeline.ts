@@ -4,13 +4,13 @@ import { createTransform, epsgName, metricFrameEpsg, type UserCrsDefs } from './
 import { decodeOutputs, normaliseAxisAngle, type PixelDetections, type TensorLike } from './decode-outputs.ts';
 import { SeamtallyError } from './errors.ts';
 import { pixelToMap } from './geotransform.ts';
-import type { ModelSidecar } from './model-contract.ts';
+import { tileAlignPxOf, type ModelSidecar } from './model-contract.ts';
 import { computeStretch, joinSamples, normaliseInPlace, readStretchSample, selectBands, type BandSelection, type Stretch, type StretchOptions } from './radiometry.ts';
 import { planResample, resampleBand } from './resample.ts';
 import { fillUnit, isContiguousUnit } from './fill-unit.ts';
 import type { RasterWindow, SceneSource } from './scene-source.ts';
 import { keepCoreCentres } from './seam-merge.ts';
-import { planTiles, type PlannedTile, type TilePlan } from './tiling.ts';
+import { chooseTilePx, planTiles, type PlannedTile, type TilePlan, type TileSizeInput } from './tiling.ts';
 import { createDetectionTable, type DetectionTable } from './types.ts';
 
 /** The injected detector: one [1, 3, tilePx, tilePx] float32 tensor in, named output tensors out. */
@@ -70,10 +70,31 @@ export function maxObjectExtentM(sidecar: ModelSidecar, fallbackM = 10): number 
   return specs.length ? Math.max(...specs.map((o) => o.maxExtentM)) : fallbackM;
 }
 
+/**
+ * The tile size when the run does not fix one: the sidecar's tilePx, or, for a model that takes a range of sizes
+ * (maxTilePx), the size in [tilePx, maxTilePx] that infers the fewest pixels for this scene (`chooseTilePx`).
+ */
+export function defaultTilePx(sidecar: ModelSidecar, plan: Omit<TileSizeInput, 'minTilePx' | 'maxTilePx' | 'sizeStepPx'>): number {
+  const maxTilePx = sidecar.maxTilePx ?? sidecar.tilePx;
+  if (maxTilePx <= sidecar.tilePx) return sidecar.tilePx;
+  const stride = sidecar.output.layout === 'center-heatmap' ? sidecar.output.stride : 1;
+  const a = plan.alignPx ?? 1;
+  const gcd = (x: number, y: number): number => (y ? gcd(y, x % y) : x);
+  return chooseTilePx({ ...plan, minTilePx: sidecar.tilePx, maxTilePx, sizeStepPx: (a * stride) / gcd(a, stride) });
+}
+
 /** Prepare one scene: band roles, per-scene stretch (from an overview), tile plan, frame. */
 export async function prepareScene(source: SceneSource, sceneIdx: number, sidecar: ModelSidecar, opts: PrepareOptions = {}): Promise<ScenePipeline> {
   const info = source.info;
-  const tilePx = opts.tilePx ?? sidecar.tilePx;
+  const alignPx = tileAlignPxOf(sidecar);
+  const sceneGsdM = snapGsdM(info.georef.gsdM, sidecar.inputGsdM);
+  const extentM = maxObjectExtentM(sidecar, opts.fallbackMaxExtentM);
+  const overlapPx = opts.overlapPx ?? 'auto';
+  const planBase = {
+    sceneWidthPx: info.widthPx, sceneHeightPx: info.heightPx, sceneGsdM, modelGsdM: sidecar.inputGsdM,
+    maxObjectExtentM: extentM, overlapPx, alignPx,
+  };
+  const tilePx = opts.tilePx ?? defaultTilePx(sidecar, planBase);
   if (sidecar.output.layout === 'center-heatmap' && tilePx % sidecar.output.stride !== 0) {
     throw new SeamtallyError('bad-argument', `The tile size ${tilePx} px is not a multiple of the model's output stride ${sidecar.output.stride}: choose a multiple of ${sidecar.output.stride}.`);
   }
@@ -85,15 +106,7 @@ export async function prepareScene(source: SceneSource, sceneIdx: number, sideca
   }
   const sample = joinSamples(windows);
   const stretch = computeStretch(sample, bands, { significantBits: info.significantBits, ...opts.stretch });
-  const plan = planTiles({
-    sceneWidthPx: info.widthPx,
-    sceneHeightPx: info.heightPx,
-    sceneGsdM: snapGsdM(info.georef.gsdM, sidecar.inputGsdM),
-    modelGsdM: sidecar.inputGsdM,
-    tilePx,
-    maxObjectExtentM: maxObjectExtentM(sidecar, opts.fallbackMaxExtentM),
-    overlapPx: opts.overlapPx ?? 'auto',
-  });
+  const plan = planTiles({ ...planBase, tilePx });
   return {
     source, sceneIdx, sidecar, plan, bands, stretch,
     frameEpsg: opts.frameEpsg ?? runFrameEpsg([source], opts.userDefs),

@@ -7,14 +7,17 @@ import type { PixelBox } from './types.ts';
  * - Planning happens in MODEL pixels over the scene resampled to the model's GSD: scale = sceneGsdM / modelGsdM,
  *   model x = scene x × scale. The resampled grid is modelWidthPx = ceil(sceneWidthPx × scale) wide (same for
  *   height), so it may reach up to one model pixel past the scene's far edge; that sliver reads as nodata.
- * - Windows are tilePx wide, the fewest per axis that give every core ≥ overlapPx of context inside the scene:
- *   n = ceil((extent − 2·overlapPx) / (tilePx − 2·overlapPx)), starts spread evenly from 0 to extent − tilePx (so
- *   no thin edge core with a window shifted over its neighbour's). Cores are half-open boxes [min, max) that
- *   partition the resampled scene exactly: every model pixel lies in exactly one core; a core boundary lies in the
- *   middle of its two windows' overlap, so each window holds its core grown by ≥ overlapPx (clipped at scene
- *   edges). No core is wider than tilePx − 2·overlapPx inside the scene, tilePx − overlapPx at its edges. Only when
- *   the scene itself is smaller than tilePx along an axis is the window the whole scene along that axis; the
- *   pipeline then pads the model input (right/bottom) to tilePx.
+ * - Windows are tilePx wide, the fewest per axis that give every core ≥ overlapPx of context inside the scene, with
+ *   starts on multiples of alignPx (the network's total downsampling, 32 for the shipped detector): every tiling then
+ *   shows the network the same pixel phase, so a car is seen the same way whatever the tile size (a strided CNN is
+ *   not shift-invariant: a window moved by a few pixels changes scores near the threshold). Starts are spread evenly
+ *   from 0 to the last aligned start (so no thin edge core with a window shifted over its neighbour's); the last
+ *   window may reach up to alignPx − 1 model pixels past the scene's far edge, which reads as nodata. Cores are
+ *   half-open boxes [min, max) that partition the resampled scene exactly: every model pixel lies in exactly one
+ *   core; a core boundary lies in the middle of its two windows' overlap, so each window holds its core grown by
+ *   ≥ overlapPx (clipped at scene edges). No core is wider than tilePx − 2·overlapPx inside the scene. Only when the
+ *   scene itself is no larger than tilePx along an axis is the window the whole scene along that axis; the pipeline
+ *   then pads the model input (right/bottom) to tilePx.
  * - overheadRatio = Σ window pixels / scene pixels, both in model pixels (padding is not counted).
  */
 
@@ -31,6 +34,8 @@ export interface TilePlanInput {
   overlapPx?: number | 'auto';
   /** Extra scene pixels around each integer read window for the resampling kernel. Default 1. */
   readPadPx?: number;
+  /** Window starts are multiples of this many model pixels (the network's total stride). Default 1. */
+  alignPx?: number;
 }
 
 export interface PlannedTile {
@@ -58,6 +63,8 @@ export interface TilePlan {
   modelHeightPx: number;
   tilePx: number;
   overlapPx: number;
+  /** Window starts are multiples of this (model pixels). */
+  alignPx: number;
   /** Largest interior core width (and largest window spacing): tilePx − 2·overlapPx. */
   coreStepPx: number;
   cols: number;
@@ -90,20 +97,24 @@ function positive(name: string, v: number): void {
 }
 
 /**
- * Cores and windows along one axis. The fewest windows of tilePx that give every core ≥ overlapPx of context on its
- * inner sides: n = ceil((extent − 2·overlap) / (tilePx − 2·overlap)) (edge cores need no context towards the scene
- * edge). Window starts are spread evenly from 0 to extent − tilePx (spacing ≤ the core step), and each core boundary
- * sits in the middle of the two neighbouring windows' overlap, so both windows reach ≥ overlapPx past it.
+ * Cores and windows along one axis. The fewest windows of tilePx with starts on multiples of alignPx that give every
+ * core ≥ overlapPx of context on its inner sides (edge cores need no context towards the scene edge): with the
+ * aligned step a = floor(step / alignPx) · alignPx and the last start L = ceil((extent − tilePx) / alignPx) · alignPx,
+ * n = ceil(L / a) + 1. Starts are alignPx · round(k · (L / alignPx) / (n − 1)), so consecutive starts are ≤ a apart
+ * (a rounded spacing never exceeds ceil(L / alignPx / (n − 1)) ≤ a / alignPx units), and each core boundary sits in
+ * the middle of the two neighbouring windows' overlap, so both windows reach ≥ overlapPx past it.
  */
-function axisPlan(extentPx: number, tilePx: number, overlapPx: number, stepPx: number) {
+function axisPlan(extentPx: number, tilePx: number, overlapPx: number, stepPx: number, alignPx: number) {
   // A scene no larger than one tile is one tile: several cores would share the same window.
   if (extentPx <= tilePx) return { n: 1, core: [[0, extentPx]] as Array<[number, number]>, win: [[0, extentPx]] as Array<[number, number]> };
-  const n = Math.max(2, Math.ceil((extentPx - 2 * overlapPx) / stepPx - 1e-9));
+  const alignedStepPx = Math.floor(stepPx / alignPx) * alignPx;
+  const lastUnits = Math.ceil((extentPx - tilePx) / alignPx - 1e-9);
+  const n = Math.max(2, Math.ceil((lastUnits * alignPx) / alignedStepPx - 1e-9) + 1);
   const starts: number[] = [];
-  for (let k = 0; k < n; k++) starts.push(Math.round((k * (extentPx - tilePx)) / (n - 1)));
+  for (let k = 0; k < n; k++) starts.push(alignPx * Math.round((k * lastUnits) / (n - 1)));
   const bounds = [0];
   for (let k = 0; k + 1 < n; k++) {
-    const sharedPx = starts[k] + tilePx - starts[k + 1]; // ≥ 2·overlapPx because the spacing is ≤ stepPx
+    const sharedPx = starts[k] + tilePx - starts[k + 1]; // ≥ 2·overlapPx because the spacing is ≤ the aligned step
     bounds.push(starts[k + 1] + Math.floor(sharedPx / 2));
   }
   bounds.push(extentPx);
@@ -132,16 +143,20 @@ export function planTiles(input: TilePlanInput): TilePlan {
   if (!Number.isInteger(overlapPx) || overlapPx < 0) {
     throw new SeamtallyError('bad-argument', `The overlap must be a whole number of pixels ≥ 0 or "auto", not ${ov}.`);
   }
+  const alignPx = input.alignPx ?? 1;
+  if (!Number.isInteger(alignPx) || alignPx < 1) {
+    throw new SeamtallyError('bad-argument', `The tile alignment must be a whole number of pixels ≥ 1, not ${alignPx}.`);
+  }
   const coreStepPx = tilePx - 2 * overlapPx;
-  if (coreStepPx < 1) {
+  if (coreStepPx < alignPx) {
     throw new SeamtallyError('bad-argument',
-      `An overlap of ${overlapPx} px on each side leaves no core in a ${tilePx} px tile: use a tile larger than ${2 * overlapPx} px or a smaller overlap.`);
+      `An overlap of ${overlapPx} px on each side leaves no core in a ${tilePx} px tile: use a tile larger than ${2 * overlapPx + alignPx} px or a smaller overlap.`);
   }
   const scale = sceneGsdM / modelGsdM;
   const modelWidthPx = Math.max(1, Math.ceil(sceneWidthPx * scale - 1e-9));
   const modelHeightPx = Math.max(1, Math.ceil(sceneHeightPx * scale - 1e-9));
-  const xs = axisPlan(modelWidthPx, tilePx, overlapPx, coreStepPx);
-  const ys = axisPlan(modelHeightPx, tilePx, overlapPx, coreStepPx);
+  const xs = axisPlan(modelWidthPx, tilePx, overlapPx, coreStepPx, alignPx);
+  const ys = axisPlan(modelHeightPx, tilePx, overlapPx, coreStepPx, alignPx);
   const pad = input.readPadPx ?? 1;
   const tiles: PlannedTile[] = [];
   let inferredPx = 0;
@@ -167,7 +182,7 @@ export function planTiles(input: TilePlanInput): TilePlan {
     }
   }
   return {
-    sceneWidthPx, sceneHeightPx, sceneGsdM, modelGsdM, scale, modelWidthPx, modelHeightPx, tilePx, overlapPx,
+    sceneWidthPx, sceneHeightPx, sceneGsdM, modelGsdM, scale, modelWidthPx, modelHeightPx, tilePx, overlapPx, alignPx,
     coreStepPx, cols: xs.n, rows: ys.n, tiles, overheadRatio: inferredPx / (modelWidthPx * modelHeightPx),
   };
 }
@@ -190,4 +205,38 @@ export function subsetOverheadRatio(tiles: readonly PlannedTile[]): number {
 /** Convert a model-pixel position of a plan to scene pixels. */
 export function modelToScenePx(plan: TilePlan, xModelPx: number, yModelPx: number): [number, number] {
   return [xModelPx / plan.scale, yModelPx / plan.scale];
+}
+
+export interface TileSizeInput extends Omit<TilePlanInput, 'tilePx' | 'readPadPx'> {
+  /** Smallest tile to consider (the model's nominal tilePx). */
+  minTilePx: number;
+  /** Largest tile the model takes. */
+  maxTilePx: number;
+  /** Candidate sizes are minTilePx + k·sizeStepPx (a multiple of the alignment and the output stride). */
+  sizeStepPx: number;
+}
+
+/**
+ * The tile size for one scene when the model takes a range of input sizes: the candidate with the fewest pixels
+ * inferred in all (Σ tilePx² over the planned windows, padding included, so a small scene is one padded tile rather
+ * than many overlapping ones); among candidates within 2 % of that, the smallest (less memory per worker, more tiles
+ * to share among workers). Larger tiles spend a smaller share of their pixels on overlap, so on big scenes this
+ * lands near maxTilePx.
+ */
+export function chooseTilePx(input: TileSizeInput): number {
+  const { minTilePx, maxTilePx, sizeStepPx } = input;
+  positive('minTilePx', minTilePx); positive('maxTilePx', maxTilePx); positive('sizeStepPx', sizeStepPx);
+  const costs: Array<[number, number]> = [];
+  for (let t = minTilePx; t <= maxTilePx; t += sizeStepPx) {
+    let plan: TilePlan;
+    try {
+      plan = planTiles({ ...input, tilePx: t });
+    } catch {
+      continue; // the overlap leaves no core in this size
+    }
+    costs.push([t, plan.tiles.length * t * t]);
+  }
+  if (!costs.length) return maxTilePx; // planTiles will explain why no size works
+  const best = Math.min(...costs.map((c) => c[1]));
+  return costs.find((c) => c[1] <= best * 1.02)![0];
 }

@@ -55,6 +55,9 @@ describe('parseSidecar', () => {
     ['quality.gsdM', (s) => { s.quality.gsdM = [0.3, 0.15, 0.45, 0.6, 0.8]; }],
     ['quality.recall.vehicle', (s) => { s.quality.recall.vehicle = [0.9, 0.8]; }],
     ['quality.recall.vehicle[0]', (s) => { s.quality.recall.vehicle[0] = 1.2; }],
+    ['maxTilePx', (s) => { s.maxTilePx = 256; }], // below tilePx
+    ['maxTilePx', (s) => { s.tileAlignPx = 32; s.maxTilePx = 1000; }], // not a multiple of the alignment
+    ['tileAlignPx', (s) => { s.tileAlignPx = 48; }], // does not divide tilePx 512
   ];
   for (const [field, mutate] of BAD) {
     it(`names the bad field "${field}"`, () => {
@@ -83,6 +86,13 @@ describe('checkModelIO', () => {
   it('accepts matching names and shapes (symbolic dims are fine)', () => {
     expect(kindField(() => checkModelIO(sc, io))).toBe('ok');
     expect(kindField(() => checkModelIO(sc, { inputNames: ['image'], outputNames: ['hm', 'wh', 'reg'] }))).toBe('ok');
+  });
+  it('a model declaring a range of tile sizes (maxTilePx) must have dynamic height and width', () => {
+    const ranged = parseSidecar(JSON.stringify({ ...VALID, maxTilePx: 1536, tileAlignPx: 32 }));
+    expect(ranged.maxTilePx).toBe(1536);
+    expect(ranged.tileAlignPx).toBe(32);
+    expect(kindField(() => checkModelIO(ranged, io))).toBe('model-mismatch maxTilePx');
+    expect(kindField(() => checkModelIO(ranged, { ...io, inputDims: { image: ['batch', 3, 'height', 'width'] }, outputDims: {} }))).toBe('ok');
   });
   it('names the mismatching field', () => {
     expect(kindField(() => checkModelIO(sc, { ...io, inputNames: ['input'] }))).toBe('model-mismatch input.name');

@@ -1,6 +1,6 @@
 // Tiling plan: cores partition the resampled scene exactly, windows hold every object whole, overhead figures.
 import { describe, it, expect } from 'vitest';
-import { planTiles, autoOverlapPx, tilesTouching, subsetOverheadRatio, type TilePlan } from '../../../web/core/tiling.ts';
+import { planTiles, autoOverlapPx, chooseTilePx, tilesTouching, subsetOverheadRatio, type TilePlan } from '../../../web/core/tiling.ts';
 import { SeamtallyError } from '../../../web/core/errors.ts';
 
 function coreCoverage(plan: TilePlan): Uint8Array {
@@ -22,8 +22,11 @@ const CASES = [
   { sceneWidthPx: 513, sceneHeightPx: 512, sceneGsdM: 0.3, modelGsdM: 0.3, tilePx: 512, maxObjectExtentM: 0, overlapPx: 0 },
 ];
 
+// The same scenes with window starts aligned to a 32 px network stride (what the pipeline plans for the shipped model).
+const ALIGNED_CASES = CASES.map((c) => ({ ...c, alignPx: 32 }));
+
 describe('planTiles', () => {
-  for (const c of CASES) {
+  for (const c of [...CASES, ...ALIGNED_CASES]) {
     const label = `${c.sceneWidthPx}×${c.sceneHeightPx} px at ${c.sceneGsdM} m → ${c.modelGsdM} m, tile ${c.tilePx}`;
     it(`every model pixel lies in exactly one core: ${label}`, () => {
       const plan = planTiles(c);
@@ -41,7 +44,9 @@ describe('planTiles', () => {
         expect(w.maxXPx).toBeGreaterThanOrEqual(Math.min(plan.modelWidthPx, k.maxXPx + ov));
         expect(w.maxYPx).toBeGreaterThanOrEqual(Math.min(plan.modelHeightPx, k.maxYPx + ov));
         expect(w.minXPx).toBeGreaterThanOrEqual(0);
-        expect(w.maxXPx).toBeLessThanOrEqual(plan.modelWidthPx);
+        // aligned starts: the last window may reach up to alignPx − 1 model pixels past the scene (read as nodata)
+        expect(w.maxXPx).toBeLessThanOrEqual(plan.modelWidthPx + plan.alignPx - 1);
+        expect(w.maxYPx).toBeLessThanOrEqual(plan.modelHeightPx + plan.alignPx - 1);
         expect(w.maxXPx - w.minXPx).toBe(Math.min(c.tilePx, plan.modelWidthPx));
         expect(w.maxYPx - w.minYPx).toBe(Math.min(c.tilePx, plan.modelHeightPx));
         // Scene windows: exact float mapping, integer read window contains it and stays inside the scene.
@@ -53,6 +58,30 @@ describe('planTiles', () => {
       }
     });
   }
+
+  for (const c of ALIGNED_CASES) {
+    it(`aligned windows start on multiples of 32 and keep their tile size: ${c.sceneWidthPx}×${c.sceneHeightPx}, tile ${c.tilePx}`, () => {
+      const plan = planTiles(c);
+      for (const t of plan.tiles) {
+        expect(t.windowModelPx.minXPx % 32).toBe(0);
+        expect(t.windowModelPx.minYPx % 32).toBe(0);
+        if (plan.modelWidthPx > c.tilePx) expect(t.windowModelPx.maxXPx - t.windowModelPx.minXPx).toBe(c.tilePx);
+        // the last window reaches less than one alignment step past the scene
+        expect(t.windowModelPx.maxXPx).toBeLessThan(Math.max(plan.modelWidthPx, c.tilePx) + 32);
+      }
+    });
+  }
+
+  it('two tile sizes put every window on the same 32 px phase (a strided network then sees the same pixels alike)', () => {
+    const base = { sceneWidthPx: 4000, sceneHeightPx: 4000, sceneGsdM: 0.3, modelGsdM: 0.3, maxObjectExtentM: 25, alignPx: 32 };
+    for (const tilePx of [384, 512, 640, 1440]) {
+      const plan = planTiles({ ...base, tilePx });
+      expect(plan.tiles.every((t) => t.windowModelPx.minXPx % 32 === 0 && t.windowModelPx.minYPx % 32 === 0)).toBe(true);
+    }
+    // without alignment the evenly spread starts fall on other phases (the test would notice a lost alignment)
+    const loose = planTiles({ ...base, alignPx: 1, tilePx: 700 });
+    expect(loose.tiles.some((t) => t.windowModelPx.minXPx % 32 !== 0)).toBe(true);
+  });
 
   it('auto overlap ≥ half the largest object extent plus context: ceil(extent / 2 / gsd) + 8', () => {
     expect(autoOverlapPx(7, 0.3)).toBe(Math.ceil(3.5 / 0.3) + 8); // 12 + 8
@@ -134,5 +163,35 @@ describe('planTiles', () => {
     expect(() => planTiles({ ...base, maxObjectExtentM: 16 })).toThrow(/no core/); // 16 m / 2 / 0.3 → 27 + 8 = 35 px ≥ 32
     expect(() => planTiles({ ...base, sceneGsdM: 0 })).toThrow(/sceneGsdM/);
     expect(() => planTiles({ ...base, overlapPx: 2.5 })).toThrow(/whole number/);
+  });
+});
+
+describe('chooseTilePx', () => {
+  const base = { sceneGsdM: 0.3, modelGsdM: 0.3, maxObjectExtentM: 25, alignPx: 32, minTilePx: 512, maxTilePx: 1536, sizeStepPx: 32 };
+  const cost = (w: number, h: number, t: number) => { const p = planTiles({ ...base, sceneWidthPx: w, sceneHeightPx: h, tilePx: t }); return p.tiles.length * t * t; };
+
+  it('picks the candidate inferring the fewest pixels (within 2 %, the smallest), checked by brute force', () => {
+    for (const [w, h] of [[4000, 4000], [16000, 16000], [2500, 900], [7001, 3333]]) {
+      const t = chooseTilePx({ ...base, sceneWidthPx: w, sceneHeightPx: h });
+      const all: number[] = [];
+      for (let c = 512; c <= 1536; c += 32) all.push(cost(w, h, c));
+      const best = Math.min(...all);
+      expect(cost(w, h, t)).toBeLessThanOrEqual(best * 1.02);
+      expect(cost(w, h, t)).toBeLessThan(cost(w, h, 512)); // larger tiles than the nominal 512 pay off on these scenes
+      for (let c = 512; c < t; c += 32) expect(cost(w, h, c)).toBeGreaterThan(best * 1.02);
+    }
+  });
+
+  it('a scene smaller than the largest tile becomes one padded tile, not several overlapping ones', () => {
+    const t = chooseTilePx({ ...base, sceneWidthPx: 1000, sceneHeightPx: 800 });
+    expect(t).toBe(1024);
+    expect(planTiles({ ...base, sceneWidthPx: 1000, sceneHeightPx: 800, tilePx: t }).tiles.length).toBe(1);
+  });
+
+  it('keeps the overlap overhead of a 4000² scene with a 25 m object extent under 1.2 (the nominal 512 px tile gives ~2)', () => {
+    const t = chooseTilePx({ ...base, sceneWidthPx: 4000, sceneHeightPx: 4000 });
+    const plan = planTiles({ ...base, sceneWidthPx: 4000, sceneHeightPx: 4000, tilePx: t });
+    console.log(`4000² at 0.3 m, overlap ${plan.overlapPx} px: tile ${t}, ${plan.tiles.length} tiles, overhead ${plan.overheadRatio.toFixed(3)}`);
+    expect(plan.overheadRatio).toBeLessThan(1.2);
   });
 });
