@@ -27,6 +27,11 @@ export function fillUnit(
 ): boolean {
   const T = tilePx, plane = T * T;
   const x0 = plan.x.start[0], y0 = plan.y.start[0];
+  if (src[0] instanceof Uint8Array || src[0] instanceof Uint16Array) {
+    if (src.every((b) => b.constructor === src[0].constructor)) {
+      return fillUnitLut(src as Array<Uint8Array | Uint16Array>, srcW, x0, y0, T, nodata, stretch, norm, tensor, valid);
+    }
+  }
   const hasNd = nodata !== null, nanNd = hasNd && Number.isNaN(nodata);
   const identity = stretch.kind === 'identity';
   let any = false;
@@ -54,4 +59,63 @@ export function fillUnit(
     }
   }
   return any;
+}
+
+/**
+ * Per-channel tables raw value → tensor value for 8- and 16-bit samples (256 or 65 536 entries), computed with the
+ * very expressions of the general loop, so a table look-up gives the same float32 value. Kept per stretch and
+ * normalisation (they are fixed for a scene), so each tile costs one look-up per sample.
+ */
+const lutCache = new WeakMap<Stretch, { norm: InputNormalisation; size: number; luts: Float32Array[] }>();
+
+function channelLuts(stretch: Stretch, norm: InputNormalisation, size: number): Float32Array[] {
+  const hit = lutCache.get(stretch);
+  if (hit && hit.norm === norm && hit.size === size) return hit.luts;
+  const identity = stretch.kind === 'identity';
+  const luts: Float32Array[] = [];
+  for (let c = 0; c < 3; c++) {
+    const lo = stretch.low[c], k = 255 / (stretch.high[c] - lo);
+    const a = norm.scale / norm.std[c], b = -norm.mean[c] / norm.std[c];
+    const lut = new Float32Array(size);
+    for (let v = 0; v < size; v++) {
+      let v8: number;
+      if (identity) v8 = v;
+      else { v8 = (Math.fround(v) - lo) * k; v8 = v8 < 0 ? 0 : v8 > 255 ? 255 : v8; }
+      lut[v] = v8 * a + b;
+    }
+    luts.push(lut);
+  }
+  lutCache.set(stretch, { norm, size, luts });
+  return luts;
+}
+
+function fillUnitLut(
+  src: ReadonlyArray<Uint8Array | Uint16Array>, srcW: number, x0: number, y0: number, T: number, nodata: number | null,
+  stretch: Stretch, norm: InputNormalisation, tensor: Float32Array, valid: Uint8Array,
+): boolean {
+  const plane = T * T;
+  const luts = channelLuts(stretch, norm, src[0] instanceof Uint8Array ? 256 : 65536);
+  // an integer band never holds a fractional or NaN nodata value: then every pixel is valid
+  const nd = nodata !== null && Number.isInteger(nodata) ? nodata : -1;
+  let validCount = 0;
+  for (let c = 0; c < 3; c++) {
+    const s = src[c], lut = luts[c];
+    const fill = 0 * (norm.scale / norm.std[c]) + -norm.mean[c] / norm.std[c]; // an invalid pixel: 0 · a + b, as in the general loop
+    const off = c * plane;
+    for (let oy = 0; oy < T; oy++) {
+      const row = (y0 + oy) * srcW + x0;
+      const o = off + oy * T, vo = oy * T;
+      if (c === 0) {
+        for (let ox = 0; ox < T; ox++) {
+          const v = s[row + ox];
+          if (v === nd) { valid[vo + ox] = 0; tensor[o + ox] = fill; } else { valid[vo + ox] = 1; validCount++; tensor[o + ox] = lut[v]; }
+        }
+      } else if (validCount === plane) {
+        for (let ox = 0; ox < T; ox++) tensor[o + ox] = lut[s[row + ox]];
+      } else {
+        for (let ox = 0; ox < T; ox++) tensor[o + ox] = valid[vo + ox] ? lut[s[row + ox]] : fill;
+      }
+    }
+  }
+  return validCount > 0;
 }

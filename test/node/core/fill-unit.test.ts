@@ -31,6 +31,20 @@ describe('fillUnit', () => {
     // a window reaching past the raster's edge is not contiguous-inside
     expect(isContiguousUnit(planResample({ minXPx: 90, minYPx: 0, maxXPx: 106, maxYPx: T }, { minXPx: 89, minYPx: 0, maxXPx: 100, maxYPx: H }, { scenePxPerModelPxX: 1, scenePxPerModelPxY: 1 }, 100, 100))).toBe(false);
   });
+  it('the 8/16-bit table path equals the general path with the shipped model\'s normalisation (mean 0: no −0 fill)', () => {
+    const shipped = { scale: 1 / 255, mean: [0, 0, 0], std: [1, 1, 1] };
+    for (const [make, nodata, stretch] of [
+      [() => Uint8Array.from({ length: W * H }, (_, i) => (i * 53) % 256), 0, { kind: 'percentile', low: [10, 12, 9], high: [240, 250, 230] }],
+      [() => Uint16Array.from({ length: W * H }, (_, i) => (i * 991) % 4096), 0, { kind: 'percentile', low: [100, 120, 90], high: [3000, 3100, 2900] }],
+    ] as Array<[() => SampleArray, number, Stretch]>) {
+      const src = [make(), make().reverse(), make()];
+      const want = general(src, plan, T, nodata, stretch, shipped);
+      const tensor = new Float32Array(3 * T * T), valid = new Uint8Array(T * T);
+      fillUnit(src, W, plan, T, nodata, stretch, shipped, tensor, valid);
+      expect(Array.from(valid)).toEqual(Array.from(want.valid));
+      expect(Array.from(tensor).map((v) => Object.is(v, -0) ? 'neg0' : v)).toEqual(Array.from(want.tensor).map((v) => Object.is(v, -0) ? 'neg0' : v));
+    }
+  });
   for (const [name, make, nodata, stretch] of cases) {
     it(`equals resampleBand + normaliseInPlace: ${name}`, () => {
       const src = [make(), make().reverse(), make()];
