@@ -172,7 +172,9 @@ const STRETCH_OVERVIEW_MIN_PX = 512;
 
 /**
  * Read the stretch sample: the coarsest overview with ≥ 512 px on its long side, whole; without overviews, a 4 × 4
- * grid of 64 px windows spread over the full-resolution scene (never the whole raster).
+ * grid of 64 px windows spread over the full-resolution scene (never the whole raster). When none of those windows
+ * holds a valid pixel (a scene that is mostly nodata), a 16 × 16 grid of windows is read before the scene is called
+ * empty; beyond that the scene needs overviews (`gdaladdo`) for its stretch.
  */
 export async function readStretchSample(source: SceneSource, signal?: AbortSignal): Promise<RasterWindow[]> {
   const info = source.info;
@@ -182,17 +184,28 @@ export async function readStretchSample(source: SceneSource, signal?: AbortSigna
     const sz = level === 0 ? info : info.overviews[level - 1];
     return [await source.readWindow({ minXPx: 0, minYPx: 0, maxXPx: sz.widthPx, maxYPx: sz.heightPx }, { overviewLevel: level, signal })];
   }
-  const out: RasterWindow[] = [];
-  const n = 4, s = 64;
-  for (let j = 0; j < n; j++) {
-    for (let i = 0; i < n; i++) {
-      const x = Math.floor(((i + 0.5) * info.widthPx) / n - s / 2);
-      const y = Math.floor(((j + 0.5) * info.heightPx) / n - s / 2);
-      const x0 = Math.max(0, x), y0 = Math.max(0, y);
-      out.push(await source.readWindow({ minXPx: x0, minYPx: y0, maxXPx: Math.min(info.widthPx, x0 + s), maxYPx: Math.min(info.heightPx, y0 + s) }, { signal }));
+  const grid = async (n: number): Promise<RasterWindow[]> => {
+    const out: RasterWindow[] = [];
+    const s = 64;
+    for (let j = 0; j < n; j++) {
+      for (let i = 0; i < n; i++) {
+        const x = Math.floor(((i + 0.5) * info.widthPx) / n - s / 2);
+        const y = Math.floor(((j + 0.5) * info.heightPx) / n - s / 2);
+        const x0 = Math.max(0, x), y0 = Math.max(0, y);
+        out.push(await source.readWindow({ minXPx: x0, minYPx: y0, maxXPx: Math.min(info.widthPx, x0 + s), maxYPx: Math.min(info.heightPx, y0 + s) }, { signal }));
+      }
     }
-  }
-  return out;
+    return out;
+  };
+  const coarse = await grid(4);
+  return coarse.some(anyValidSample) ? coarse : grid(16);
+}
+
+/** Whether any band of the window holds a pixel that is neither nodata nor NaN. */
+function anyValidSample(win: RasterWindow): boolean {
+  const nd = win.nodata;
+  for (const a of win.bands) for (let i = 0; i < a.length; i++) if (!Number.isNaN(a[i]) && a[i] !== nd) return true;
+  return false;
 }
 
 /** Concatenate sample windows band by band into one window (for the percentile computation). */
