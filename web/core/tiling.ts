@@ -81,6 +81,13 @@ export interface TilePlan {
 export const AUTO_OVERLAP_MARGIN_PX = 8;
 
 /**
+ * Most model pixels one scene may be planned at (the scene resampled to the model GSD): 2·10¹⁰, about 10 000 tiles of
+ * 1 408² cores, days of CPU. Beyond that (a huge scene, or a coarse one enlarged to the model GSD) the plan refuses
+ * with a sentence instead of listing millions of tiles.
+ */
+export const MAX_MODEL_PX = 2e10;
+
+/**
  * Automatic overlap in model pixels: ceil(maxObjectExtentM / 2 / modelGsdM) + AUTO_OVERLAP_MARGIN_PX.
  * `maxObjectExtentM` is the largest extent of an object in any direction (its diagonal for a box). An object whose
  * centre lies in a tile's core reaches at most half that extent beyond the core, so with this overlap it lies wholly
@@ -155,6 +162,12 @@ export function planTiles(input: TilePlanInput): TilePlan {
   const scale = sceneGsdM / modelGsdM;
   const modelWidthPx = Math.max(1, Math.ceil(sceneWidthPx * scale - 1e-9));
   const modelHeightPx = Math.max(1, Math.ceil(sceneHeightPx * scale - 1e-9));
+  if (modelWidthPx * modelHeightPx > MAX_MODEL_PX) {
+    const gpx = (modelWidthPx * modelHeightPx) / 1e9;
+    throw new SeamtallyError('too-large',
+      `Resampled to the model's ${modelGsdM} m GSD this scene would be ${gpx.toFixed(0)} gigapixels (${modelWidthPx} × ${modelHeightPx} px), more than seamtally plans in one go (${MAX_MODEL_PX / 1e9} gigapixels): cut the scene into parts (e.g. gdal_translate -srcwin) or check its GSD${scale > 1 ? ` — it is ${scale.toFixed(1)}× coarser than the model's and would be enlarged` : ''}.`,
+      { modelWidthPx, modelHeightPx });
+  }
   const xs = axisPlan(modelWidthPx, tilePx, overlapPx, coreStepPx, alignPx);
   const ys = axisPlan(modelHeightPx, tilePx, overlapPx, coreStepPx, alignPx);
   const pad = input.readPadPx ?? 1;

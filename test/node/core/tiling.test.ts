@@ -1,6 +1,6 @@
 // Tiling plan: cores partition the resampled scene exactly, windows hold every object whole, overhead figures.
 import { describe, it, expect } from 'vitest';
-import { planTiles, autoOverlapPx, chooseTilePx, tilesTouching, subsetOverheadRatio, type TilePlan } from '../../../web/core/tiling.ts';
+import { planTiles, autoOverlapPx, chooseTilePx, MAX_MODEL_PX, tilesTouching, subsetOverheadRatio, type TilePlan } from '../../../web/core/tiling.ts';
 import { SeamtallyError } from '../../../web/core/errors.ts';
 
 function coreCoverage(plan: TilePlan): Uint8Array {
@@ -155,6 +155,15 @@ describe('planTiles', () => {
     expect(left.length).toBeLessThan(plan.tiles.length);
     expect(left.every((t) => t.windowModelPx.minXPx < 600)).toBe(true);
     expect(subsetOverheadRatio(plan.tiles)).toBeCloseTo(plan.overheadRatio, 12);
+  });
+
+  it('refuses a plan beyond MAX_MODEL_PX (a coarse scene enlarged 33× to 0.3 m) with too-large, before listing tiles', () => {
+    let err: unknown;
+    try { planTiles({ sceneWidthPx: 10000, sceneHeightPx: 10000, sceneGsdM: 10, modelGsdM: 0.3, tilePx: 512, maxObjectExtentM: 10 }); } catch (e) { err = e; }
+    expect(err).toBeInstanceOf(SeamtallyError);
+    expect((err as SeamtallyError).kind).toBe('too-large');
+    expect((err as SeamtallyError).message).toMatch(/gigapixels.*coarser than the model/);
+    expect(MAX_MODEL_PX).toBe(2e10);
   });
 
   it('refuses an overlap that leaves no core, and non-positive sizes, with bad-argument', () => {
