@@ -1,5 +1,7 @@
 // CLI dispatcher: `seamtally <command> ...`; each command lives in its own module under cli/ and exports run(argv).
+import { inflateSync } from 'node:zlib';
 import { toErrorInfo } from '../web/core/errors.ts';
+import { setSyncInflate } from '../web/io/inflate.ts';
 
 type Command = { run(argv: string[]): Promise<number> };
 const commands: Record<string, () => Promise<Command>> = {
@@ -10,6 +12,8 @@ const commands: Record<string, () => Promise<Command>> = {
 };
 
 export async function main(argv: string[]): Promise<number> {
+  // Node's zlib inflates DEFLATE tiles ~3× faster than DecompressionStream; maxOutputLength keeps the bound
+  setSyncInflate((bytes, maxOutBytes) => inflateSync(bytes, { maxOutputLength: maxOutBytes }));
   const [cmd, ...rest] = argv;
   const load = cmd ? commands[cmd] : undefined;
   if (!load) {

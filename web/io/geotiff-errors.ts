@@ -45,7 +45,7 @@ export function checkRasterSize(c: RasterSizeClaim, name: string): void {
   }
 }
 
-const DAMAGED_DATA = /damaged LZW|corrupted code|Invalid LZW|incorrect (header|data|length) check|unknown compression method|invalid (window size|block type|stored block|code lengths|bit length|literal|distance|code)|too many length/i;
+const DAMAGED_DATA = /damaged (LZW|DEFLATE)|corrupted code|Invalid LZW|incorrect (header|data|length) check|unknown compression method|invalid (window size|block type|stored block|code lengths|bit length|literal|distance|code)|too many length/i;
 
 /** A typed SeamtallyError (or the AbortError, untouched) for anything geotiff.js or a decoder threw. */
 export function classify(err: unknown, name: string, stage: 'open' | 'read'): unknown {
@@ -58,7 +58,7 @@ export function classify(err: unknown, name: string, stage: 'open' | 'read'): un
   if (/Invalid byte order|Invalid magic number/i.test(msg)) {
     return new SeamtallyError('not-tiff', `"${name}" is not a TIFF file: choose a GeoTIFF or COG (.tif).`, { name });
   }
-  // damaged compressed data: our LZW decoder, pako's inflate messages (zlib's), geotiff's own LZW checks
+  // damaged compressed data: our LZW decoder and bounded inflate (inflate.ts), pako's inflate messages (zlib's), geotiff's own LZW checks
   if (!/identifier/.test(msg) && DAMAGED_DATA.test(msg)) {
     return new SeamtallyError('truncated', `"${name}" is damaged (its compressed pixel data cannot be decoded): copy or download the file again, or check it with gdalinfo -checksum.`, { name });
   }
