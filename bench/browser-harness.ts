@@ -17,6 +17,26 @@ export interface TileRunSpec {
   tilePx?: number;
 }
 
+/** CPU time so far (ms), read from /proc by the Node side (bench/browser.ts cpuSnapshot) through an exposed function. */
+export interface CpuSnapshot {
+  /** All threads of the renderer processes (page, detector workers, wasm). */
+  rendererMs: number;
+  /** Each dedicated-worker thread of the renderers, by "pid/tid". */
+  workerMs: Record<string, number>;
+  /** The whole machine's busy time (every process, niced ones included). */
+  machineBusyMs: number;
+}
+
+/** Cores in use on average during the timed part: CPU ms / wall ms. */
+export interface CoresUsed {
+  renderer: number;
+  /** The busiest detector-worker threads, one per worker, most first. */
+  workers: number[];
+  /** Dedicated-worker threads that ran at all (more than the workers: onnxruntime's own threads, or the tally worker). */
+  busyThreads: number;
+  machine: number;
+}
+
 export interface TileRunFigures {
   workers: number;
   tiles: number;
@@ -26,6 +46,17 @@ export interface TileRunFigures {
   planTiles: number;
   overheadRatio: number;
   numThreads: number;
+  /** Wall time each worker spent waiting on its detectTile calls (the rest of the wall it was idle). */
+  busyMs: number[];
+  cpu: CoresUsed | null;
+}
+
+function coresUsed(a: CpuSnapshot, b: CpuSnapshot, wallMs: number, workers: number): CoresUsed {
+  const perThread = Object.keys(b.workerMs).map((k) => (b.workerMs[k] - (a.workerMs[k] ?? 0)) / wallMs).sort((x, y) => y - x);
+  return {
+    renderer: (b.rendererMs - a.rendererMs) / wallMs, workers: perThread.slice(0, workers), busyThreads: perThread.filter((c) => c > 0).length,
+    machine: (b.machineBusyMs - a.machineBusyMs) / wallMs,
+  };
 }
 
 function unwrap<T>(r: { ok: true; value: T } | { ok: false; error: { message: string } }): T {
@@ -55,17 +86,24 @@ export async function runTiles(spec: TileRunSpec): Promise<TileRunFigures> {
     // the app's hand-out (web/app/tile-queue.ts): contiguous bands per worker, work stealing at the end
     const queue = new BandQueue(tiles.map((t) => t.index), handles.length);
     const timings: TileTimingsMs = { readMs: 0, resampleMs: 0, inferMs: 0, decodeMs: 0 };
+    const busyMs = handles.map(() => 0);
+    const cpuNow = (globalThis as { __benchCpu?: () => Promise<CpuSnapshot> }).__benchCpu;
+    const cpu0 = cpuNow ? await cpuNow() : null;
     const t0 = performance.now();
     await Promise.all(handles.map(async (h, w) => {
       for (let idx = queue.take(w); idx !== undefined; idx = queue.take(w)) {
+        const ts = performance.now();
         const r = unwrap(await h.api.detectTile(task(idx)));
+        busyMs[w] += performance.now() - ts;
         for (const k of Object.keys(timings) as (keyof TileTimingsMs)[]) timings[k] += r.timingsMs[k];
       }
     }));
     const wallMs = performance.now() - t0;
+    const cpu1 = cpuNow ? await cpuNow() : null;
     let scenePx = 0;
     for (const t of tiles) scenePx += tileScenePx(plan, t);
-    return { workers: spec.workers, tiles: tiles.length, scenePx, wallMs, timings, planTiles: plan.tiles.length, overheadRatio: plan.overheadRatio, numThreads: loads[0].numThreads };
+    return { workers: spec.workers, tiles: tiles.length, scenePx, wallMs, timings, planTiles: plan.tiles.length, overheadRatio: plan.overheadRatio, numThreads: loads[0].numThreads,
+      busyMs, cpu: cpu0 && cpu1 ? coresUsed(cpu0, cpu1, wallMs, spec.workers) : null };
   } finally {
     for (const h of handles) h.terminate();
   }

@@ -5,7 +5,7 @@ import { spawn, execSync, type ChildProcess } from 'node:child_process';
 import { existsSync, readdirSync, readFileSync } from 'node:fs';
 import { resolve } from 'node:path';
 import { chromium, type Browser, type Page } from 'playwright-core';
-import type { TileRunFigures, TileRunSpec } from './browser-harness.ts';
+import type { CpuSnapshot, TileRunFigures, TileRunSpec } from './browser-harness.ts';
 
 const REPO = resolve(import.meta.dirname, '..');
 /** The flags of playwright.config.ts. */
@@ -41,8 +41,8 @@ export async function launch(): Promise<Browser> {
   return chromium.launch({ executablePath: chromiumPath(), args: CHROMIUM_ARGS });
 }
 
-/** Peak RSS (VmHWM) of the largest renderer process below `rootPid`, bytes (0 when none is found). */
-export function rendererPeakRssB(rootPid: number): number {
+/** Renderer processes (chromium `--type=renderer`) below `rootPid`. */
+function rendererPids(rootPid: number): number[] {
   const parent = new Map<number, number>();
   for (const d of readdirSync('/proc')) {
     if (!/^\d+$/.test(d)) continue;
@@ -52,16 +52,49 @@ export function rendererPeakRssB(rootPid: number): number {
     } catch { /* exited */ }
   }
   const below = (pid: number) => { for (let p = pid; p > 1; p = parent.get(p) ?? 0) if (p === rootPid) return true; return false; };
+  return [...parent.keys()].filter((pid) => {
+    try { return below(pid) && readFileSync(`/proc/${pid}/cmdline`, 'utf8').includes('--type=renderer'); } catch { return false; }
+  });
+}
+
+/** Peak RSS (VmHWM) of the largest renderer process below `rootPid`, bytes (0 when none is found). */
+export function rendererPeakRssB(rootPid: number): number {
   let peak = 0;
-  for (const pid of parent.keys()) {
-    if (!below(pid)) continue;
+  for (const pid of rendererPids(rootPid)) {
     try {
-      if (!readFileSync(`/proc/${pid}/cmdline`, 'utf8').includes('--type=renderer')) continue;
       const m = /VmHWM:\s+(\d+) kB/.exec(readFileSync(`/proc/${pid}/status`, 'utf8'));
       if (m) peak = Math.max(peak, Number(m[1]) * 1024);
     } catch { /* exited */ }
   }
   return peak;
+}
+
+/** Linux clock ticks per second (USER_HZ, `getconf CLK_TCK`): 100 on every mainstream kernel build. */
+const TICK_MS = 10;
+/** utime + stime (fields 14, 15 of proc_pid_stat(5)) in ms. */
+const statCpuMs = (stat: string) => { const f = stat.slice(stat.lastIndexOf(')') + 2).split(' '); return (Number(f[11]) + Number(f[12])) * TICK_MS; };
+
+/**
+ * CPU time so far of the renderers below `rootPid` (all threads: page, workers, wasm) and of their dedicated-worker
+ * threads one by one, and the whole machine's busy time (/proc/stat: user + nice + system + irq + softirq + steal).
+ */
+export function cpuSnapshot(rootPid: number): CpuSnapshot {
+  let rendererMs = 0;
+  const workerMs: Record<string, number> = {};
+  for (const pid of rendererPids(rootPid)) {
+    try {
+      rendererMs += statCpuMs(readFileSync(`/proc/${pid}/stat`, 'utf8'));
+      for (const tid of readdirSync(`/proc/${pid}/task`)) {
+        try {
+          const st = readFileSync(`/proc/${pid}/task/${tid}/stat`, 'utf8');
+          if (/\(DedicatedWorker/.test(st)) workerMs[`${pid}/${tid}`] = statCpuMs(st);
+        } catch { /* thread ended */ }
+      }
+    } catch { /* exited */ }
+  }
+  const cpu = readFileSync('/proc/stat', 'utf8').split('\n')[0].trim().split(/\s+/).slice(1).map(Number);
+  const machineBusyMs = (cpu[0] + cpu[1] + cpu[2] + cpu[5] + cpu[6] + cpu[7]) * TICK_MS;
+  return { rendererMs, workerMs, machineBusyMs };
 }
 
 /** A page on the Vite origin (cross-origin isolated) with the harness imported. */
@@ -81,6 +114,8 @@ export async function browserTiles(server: Server, specs: TileRunSpec[]): Promis
   const browser = await launch();
   try {
     const page = await harnessPage(browser, server);
+    // the harness calls this at the edges of its timed part, so the CPU figures cover exactly the timed tiles
+    await page.exposeFunction('__benchCpu', () => cpuSnapshot(process.pid));
     const runs: TileRunFigures[] = [];
     for (const spec of specs) {
       runs.push(await page.evaluate(async ([url, s]) => (await import(/* @vite-ignore */ url)).runTiles(s), [harnessUrl(), spec] as const));

@@ -1,24 +1,30 @@
 // Child process of the bench: one scene through the CLI's pipeline (onnxruntime-node) — prints one JSON line with
 // throughput, the per-tile split, the merge time, decoded-tile cache figures and this process's peak RSS.
 // Usage: node --import tsx bench/cli-run.ts SCENE.tif MODEL.onnx [--tiles N] [--tile PX] [--threads N] [--prefetch]
+//          [--cache-mb N] (decoded-tile cache budget; default: the source's own)
 import { readFileSync, statSync } from 'node:fs';
 import { parseArgs } from 'node:util';
+import { inflateSync } from 'node:zlib';
 import { parseSidecar } from '../web/core/model-contract.ts';
 import { prepareScene, runScene } from '../web/core/pipeline.ts';
 import { mergeDetectionTables } from '../web/core/seam-merge.ts';
 import { openGeoTiffPath, sourceCacheStats } from '../web/io/geotiff-source.ts';
+import { setSyncInflate } from '../web/io/inflate.ts';
 import { openNodeModel } from '../web/io/ort-node.ts';
 import { centredBlock, tileScenePx } from './tile-subset.ts';
 
 const { positionals, values } = parseArgs({
   allowPositionals: true,
-  options: { tiles: { type: 'string' }, tile: { type: 'string' }, threads: { type: 'string' }, prefetch: { type: 'boolean' }, warmup: { type: 'string' } },
+  options: { tiles: { type: 'string' }, tile: { type: 'string' }, threads: { type: 'string' }, prefetch: { type: 'boolean' }, warmup: { type: 'string' }, 'cache-mb': { type: 'string' } },
 });
+// as `seamtally` itself does (cli/main.ts): node:zlib inflates DEFLATE tiles, bounded by the block size
+setSyncInflate((bytes, maxOutBytes) => inflateSync(bytes, { maxOutputLength: maxOutBytes }));
 const [scenePath, modelPath] = positionals;
 const sidecar = parseSidecar(readFileSync(modelPath.replace(/\.onnx$/, '.model.json'), 'utf8'));
 const tilePx = values.tile ? Number(values.tile) : undefined;
 const model = await openNodeModel(new Uint8Array(readFileSync(modelPath)), sidecar, { threads: Number(values.threads ?? 1), tilePx });
-const src = await openGeoTiffPath(scenePath, { byteLength: statSync(scenePath).size });
+const cacheBytes = values['cache-mb'] !== undefined ? Number(values['cache-mb']) * 2 ** 20 : undefined;
+const src = await openGeoTiffPath(scenePath, { byteLength: statSync(scenePath).size, cacheBytes });
 const p = await prepareScene(src, 0, sidecar, { tilePx });
 const want = values.tiles ? Number(values.tiles) : 0;
 const tiles = want > 0 ? centredBlock(p.plan, want) : p.plan.tiles;

@@ -1,5 +1,5 @@
 // Bench figures (ratios from one run) and the readable table; the targets come from the performance issue.
-import type { TileRunFigures } from './browser-harness.ts';
+import type { CoresUsed, TileRunFigures } from './browser-harness.ts';
 import type { AppRunFigures } from './browser.ts';
 
 interface Timings { readMs: number; resampleMs: number; inferMs: number; decodeMs: number }
@@ -8,12 +8,19 @@ interface Timings { readMs: number; resampleMs: number; inferMs: number; decodeM
 export interface CliRun {
   scene: string; widthPx: number; heightPx: number; tilePx: number; overlapPx: number; planTiles: number; overheadRatio: number;
   tiles: number; tilesRun: number; tilesSkipped: number; scenePx: number; elapsedMs: number; timings: Timings; mergeMs: number;
-  detections: number; cache: { hits: number; misses: number; evictions: number; bytes: number } | null; peakRssB: number;
+  detections: number; cache: { maxBytes?: number; hits: number; misses: number; evictions: number; bytes: number } | null; peakRssB: number;
 }
 
+/** A scene's tile plan in brief. */
+export interface PlanSummary { tilePx: number; overlapPx: number; cols: number; rows: number; tiles: number; overheadRatio: number }
+
 export interface BenchRaw {
-  when: string; mode: string; sizes: number[]; blockTiles: number; model: string;
+  when: string; mode: string; sizes: number[];
+  /** Tiles in the timed block on every scene (`askedTiles` capped at what every scene has, even). */
+  blockTiles: number; askedTiles: number; forcedTilePx: number | null; cacheMB: number | null; model: string;
   machine: { cpus: number; cpuModel: string; loadAvgStart: number[]; loadAvgEnd?: number[] };
+  /** Per scene: the default tiling (what prepareScene picks), the plan the runs used (--tile), the block's shape. */
+  plans: Record<string, { default: PlanSummary; run: PlanSummary; block: { cols: number; rows: number } }>;
   cli: { block: Record<string, CliRun>; full: Record<string, CliRun> };
   browser: Record<string, { runs: TileRunFigures[]; rendererPeakRssB: number }>;
   merge: { node: MergeRow[]; browser: MergeRow[] };
@@ -50,7 +57,7 @@ export function figures(r: BenchRaw) {
   for (const [k, b] of Object.entries(r.browser)) {
     browser[k] = Object.fromEntries(b.runs.map((x) => [`${x.workers}w`, throughput(x.tiles, x.scenePx, x.wallMs, x.timings, 0, x.workers)]));
   }
-  const memRuns = Object.keys(r.cli.full).length ? r.cli.full : r.cli.block;
+  const memRuns = memRunsOf(r);
   const mergeGrowth = (rows: MergeRow[]) => rows.length === 2 ? { measured: rows[1].ms / rows[0].ms, nLogN: nlogn(rows[1].n) / nlogn(rows[0].n) } : null;
   const ratio = (a?: number, b?: number) => (a !== undefined && b !== undefined && b > 0 ? a / b : null);
   return {
@@ -58,7 +65,16 @@ export function figures(r: BenchRaw) {
     inferenceShare: { cli: cli[small]?.inferenceShare ?? null, browser1w: browser[small]?.['1w']?.inferenceShare ?? null, browser2w: browser[small]?.['2w']?.inferenceShare ?? null, target: '≥ 0.85' },
     browserVsNative: { value: ratio(browser[small]?.['1w']?.tilesPerS, cli[small]?.tilesPerS), target: '≥ 0.35', note: '1 worker / 1 thread, same tiles' },
     decodeShare: { cli: cli[small]?.decodeShare ?? null, browser1w: browser[small]?.['1w']?.decodeShare ?? null },
-    workerScaling: { value: ratio(browser[small]?.['2w']?.tilesPerS, browser[small]?.['1w']?.tilesPerS), big: ratio(browser[big]?.['2w']?.tilesPerS, browser[big]?.['1w']?.tilesPerS), target: '≥ 1.8' },
+    workerScaling: {
+      value: ratio(browser[small]?.['2w']?.tilesPerS, browser[small]?.['1w']?.tilesPerS), big: ratio(browser[big]?.['2w']?.tilesPerS, browser[big]?.['1w']?.tilesPerS), target: '≥ 1.8',
+      // what the worker threads got from the machine (/proc): a shared, loaded machine caps scaling below 2 however
+      // well the workers run in parallel; tiles per worker-CPU-second 2w / 1w near 1 means no parallel overhead
+      cores: Object.fromEntries(Object.entries(r.browser).map(([k, b]) => [k, Object.fromEntries(b.runs.map((x) => [`${x.workers}w`, x.cpu]))])),
+      perCpuSecond: Object.fromEntries(Object.entries(r.browser).map(([k, b]) => {
+        const per = (w: number) => { const x = b.runs.find((y) => y.workers === w); const c = x?.cpu?.workers.reduce((a, v) => a + v, 0); return x && c ? x.tiles / (x.wallMs / 1000) / c : undefined; };
+        return [k, ratio(per(2), per(1))];
+      })),
+    },
     memoryBound: {
       cli: ratio(memRuns[big]?.peakRssB, memRuns[small]?.peakRssB),
       cliPeakRssMB: Object.fromEntries(Object.entries(memRuns).map(([k, c]) => [k, c.peakRssB / 2 ** 20])),
@@ -67,11 +83,19 @@ export function figures(r: BenchRaw) {
       browserRendererPeakMB: Object.fromEntries(Object.entries(r.browser).map(([k, b]) => [k, b.rendererPeakRssB / 2 ** 20])),
       target: '≤ 1.3',
     },
-    overlapOverhead: { value: r.cli.block[small]?.overheadRatio ?? null, tilePx: r.cli.block[small]?.tilePx, overlapPx: r.cli.block[small]?.overlapPx, target: '≤ 1.2' },
+    // at the default tiling of each scene (even when the runs force a tile size); the value is the worst scene's
+    overlapOverhead: {
+      value: Object.keys(r.plans).length ? Math.max(...Object.values(r.plans).map((p) => p.default.overheadRatio)) : null,
+      perScene: Object.fromEntries(Object.entries(r.plans).map(([k, p]) => [k, { overheadRatio: p.default.overheadRatio, tilePx: p.default.tilePx, overlapPx: p.default.overlapPx, tiles: p.default.tiles }])),
+      target: '≤ 1.2',
+    },
     merge: { node: r.merge.node, browser: r.merge.browser, growthNode: mergeGrowth(r.merge.node), growthBrowser: mergeGrowth(r.merge.browser), target: '1 000 000 in ≤ 2 s (browser), growth ≈ n log n' },
     longestMainThreadTaskMs: { value: r.app?.longestTaskMs ?? null, over100: r.app?.longTasksOver100 ?? null, target: '≤ 100' },
   };
 }
+
+/** The CLI runs the memory bound compares: whole scenes, or the blocks when there were none (--quick). */
+const memRunsOf = (r: BenchRaw) => (Object.keys(r.cli.full).length ? r.cli.full : r.cli.block);
 
 const f = (v: number | null | undefined, d = 2) => (v === null || v === undefined || !Number.isFinite(v) ? '–' : v.toFixed(d));
 
@@ -79,7 +103,12 @@ export function printTable(res: BenchRaw & { figures: ReturnType<typeof figures>
   const F = res.figures;
   const out: string[] = [];
   out.push(`seamtally bench (${res.mode}, ${res.when}, ${res.machine.cpus} cores, load ${res.machine.loadAvgStart.map((l) => l.toFixed(1)).join('/')} → ${(res.machine.loadAvgEnd ?? []).map((l) => l.toFixed(1)).join('/')})`);
-  out.push(`model ${res.model}; per-tile figures on a centred block of ${res.blockTiles} tiles`);
+  out.push(`model ${res.model}; per-tile figures on a centred block of ${res.blockTiles} tiles per scene (asked ${res.askedTiles})${res.forcedTilePx ? `, tile size forced to ${res.forcedTilePx} px` : ''}${res.cacheMB !== null ? `, CLI tile cache ${res.cacheMB} MiB` : ''}`);
+  for (const [k, p] of Object.entries(res.plans)) {
+    const d = p.default, run = p.run;
+    out.push(`  ${`${k}²`.padEnd(7)} default tiling: ${d.tilePx} px tiles, overlap ${d.overlapPx} px, ${d.cols}×${d.rows} = ${d.tiles} tiles, overhead ${f(d.overheadRatio, 3)}; `
+      + `${res.forcedTilePx ? `runs: ${run.tilePx} px, ${run.tiles} tiles; ` : ''}block ${p.block.cols}×${p.block.rows}`);
+  }
   out.push('');
   out.push('where                 MPix/s tiles/s | ms/tile: read+dec resample infer out-dec merge  e2e | infer% read%');
   const row = (name: string, t?: Throughput) => {
@@ -100,9 +129,17 @@ export function printTable(res: BenchRaw & { figures: ReturnType<typeof figures>
   line('decode share (CLI)', f(F.decodeShare.cli), '(small)');
   line('decode share (browser 1w)', f(F.decodeShare.browser1w), '(small)');
   line('worker scaling 2w/1w', `${f(F.workerScaling.value)}${F.workerScaling.big ? ` (${f(F.workerScaling.big)})` : ''}`, F.workerScaling.target);
+  for (const [k, c] of Object.entries(F.workerScaling.cores)) {
+    const w = (x: CoresUsed | null | undefined) => (x ? `workers ${x.workers.map((v) => f(v)).join('+')}${x.busyThreads > x.workers.length ? ` (${x.busyThreads} worker threads busy)` : ''}, renderer ${f(x.renderer)}, machine ${f(x.machine)}` : '–');
+    line(`  cores used ${k}²`, '', `1w: ${w(c['1w'])}; 2w: ${w(c['2w'])}; tiles/worker-CPU-s 2w/1w ${f(F.workerScaling.perCpuSecond[k])}`);
+  }
   line('memory bound CLI (RSS)', f(F.memoryBound.cli), `${F.memoryBound.target}  ${Object.entries(F.memoryBound.cliPeakRssMB).map(([k, v]) => `${k}²: ${f(v, 0)} MB/${F.memoryBound.cliTiles[k]} tiles`).join(', ')}`);
+  for (const [k, c] of Object.entries(memRunsOf(res))) {
+    if (!c.cache) continue;
+    line(`  CLI tile cache ${k}²`, '', `budget ${f((c.cache.maxBytes ?? 0) / 2 ** 20, 0)} MiB, ${c.cache.misses} decodes, ${c.cache.hits} hits, ${c.cache.evictions} evicted`);
+  }
   line('memory bound browser', f(F.memoryBound.browser), `${F.memoryBound.target}  ${Object.entries(F.memoryBound.browserRendererPeakMB).map(([k, v]) => `${k}²: ${f(v, 0)} MB`).join(', ')} (renderer VmHWM)`);
-  line('overlap overhead', f(F.overlapOverhead.value), `${F.overlapOverhead.target}  (tile ${F.overlapOverhead.tilePx}, overlap ${F.overlapOverhead.overlapPx})`);
+  line('overlap overhead (default)', f(F.overlapOverhead.value), `${F.overlapOverhead.target}  ${Object.entries(F.overlapOverhead.perScene).map(([k, o]) => `${k}²: ${f(o.overheadRatio, 3)} at ${o.tilePx} px`).join(', ')}`);
   for (const where of ['node', 'browser'] as const) {
     const rows = F.merge[where];
     if (!rows.length) continue;

@@ -1,18 +1,22 @@
 // Per-worker open scenes and prepared pipelines: each File/URL is opened once per worker and prepared once per run setup.
 import type { SceneSource } from '../web/core/scene-source.ts';
-import { openGeoTiffBlob, openGeoTiffUrl } from '../web/io/geotiff-source.ts';
+import { AUTO_CACHE_MAX_BYTES, openGeoTiffBlob, openGeoTiffUrl } from '../web/io/geotiff-source.ts';
 import { prepareScene, type ScenePipeline } from '../web/core/pipeline.ts';
 import type { ModelSidecar } from '../web/core/model-contract.ts';
 import type { SceneInput, ScenePrepareOptions } from './contract.ts';
 
-/** Bytes of decoded file tiles one worker keeps per scene (bounded; see web/core/tile-cache.ts). */
-const CACHE_BYTES_PER_SCENE = 64 * 1024 * 1024;
+/**
+ * Most bytes of decoded file tiles one worker keeps per scene: the budget follows the windows read ('auto', see
+ * autoCacheBytes in web/io/geotiff-source.ts) up to this; each of the N workers holds its own.
+ */
+const CACHE_MAX_BYTES_PER_SCENE = AUTO_CACHE_MAX_BYTES;
 
 /** Open a scene from its input (no caching). */
-export function openInput(input: SceneInput, cacheBytes = CACHE_BYTES_PER_SCENE): Promise<SceneSource> {
+export function openInput(input: SceneInput, cacheBytes: number | 'auto' = 'auto'): Promise<SceneSource> {
+  const opts = { cacheBytes, cacheMaxBytes: CACHE_MAX_BYTES_PER_SCENE };
   return input.kind === 'file'
-    ? openGeoTiffBlob(input.file, { name: input.file.name, cacheBytes })
-    : openGeoTiffUrl(new URL(input.url, self.location.href).href, { cacheBytes });
+    ? openGeoTiffBlob(input.file, { name: input.file.name, ...opts })
+    : openGeoTiffUrl(new URL(input.url, self.location.href).href, opts);
 }
 
 /** Open sources and prepared scenes of one worker, keyed by scene fingerprint. */

@@ -11,6 +11,8 @@ export interface TileCacheOptions {
 }
 
 export interface TileCacheStats {
+  /** The budget now, in bytes. */
+  maxBytes: number;
   hits: number;
   misses: number;
   evictions: number;
@@ -24,7 +26,7 @@ export interface TileCacheStats {
  * A single value larger than the budget is returned but not kept.
  */
 export class TileCache<V extends Sized> {
-  readonly maxBytes: number;
+  private budgetBytes: number;
   private readonly map = new Map<string, V>();
   private readonly pending = new Map<string, Promise<V>>();
   private bytes = 0;
@@ -35,7 +37,19 @@ export class TileCache<V extends Sized> {
   constructor(options: TileCacheOptions = {}) {
     const maxBytes = options.maxBytes ?? 256 * 1024 * 1024;
     if (!(maxBytes >= 0)) throw new Error(`TileCache maxBytes must be >= 0, got ${maxBytes}`);
-    this.maxBytes = maxBytes;
+    this.budgetBytes = maxBytes;
+  }
+
+  /** Budget for all cached values together, in bytes. */
+  get maxBytes(): number {
+    return this.budgetBytes;
+  }
+
+  /** Change the budget; a smaller one evicts the least recently used values at once. */
+  setMaxBytes(maxBytes: number): void {
+    if (!(maxBytes >= 0)) throw new Error(`TileCache maxBytes must be >= 0, got ${maxBytes}`);
+    this.budgetBytes = maxBytes;
+    this.evict();
   }
 
   /** The cached value (and mark it most recently used), or undefined. */
@@ -97,7 +111,7 @@ export class TileCache<V extends Sized> {
   }
 
   stats(): TileCacheStats {
-    return { hits: this.hits, misses: this.misses, evictions: this.evictions, bytes: this.bytes, entries: this.map.size };
+    return { maxBytes: this.budgetBytes, hits: this.hits, misses: this.misses, evictions: this.evictions, bytes: this.bytes, entries: this.map.size };
   }
 
   private evict(): void {

@@ -21,8 +21,13 @@ export interface GeoTiffSourceOptions {
   name?: string;
   /** Size of the whole file in bytes, when known (Blob.size, fs.stat): enables the truncation check. */
   byteLength?: number;
-  /** Byte budget of this source's decoded-tile cache. Default 128 MiB. Ignored when `cache` is given. */
-  cacheBytes?: number;
+  /**
+   * Byte budget of this source's decoded-tile cache, or 'auto' (default): sized from the windows read to what
+   * raster-order tiling reuses, at most `cacheMaxBytes` (see `autoCacheBytes`). Ignored when `cache` is given.
+   */
+  cacheBytes?: number | 'auto';
+  /** Upper bound of an 'auto' budget. Default AUTO_CACHE_MAX_BYTES (64 MiB). */
+  cacheMaxBytes?: number;
   /** A cache shared between sources (keys are prefixed per source). */
   cache?: TileCache<DecodedBlock>;
   /** Extra CRS definitions (EPSG code → proj4). */
@@ -36,6 +41,43 @@ export interface DecodedBlock {
   heightPx: number;
   bands: SampleArray[];
   byteLength: number;
+}
+
+/** Bounds of a cacheBytes 'auto' budget: at least this… */
+export const AUTO_CACHE_MIN_BYTES = 8 * 1024 * 1024;
+/**
+ * …and, unless `cacheMaxBytes` says otherwise, at most this. Retained decoded tiles raise the peak RSS by about twice
+ * their bytes (the JS engine lets more garbage collect before a GC when more external memory survives), so a row
+ * band of a wide scene (~108 MiB at 16 000² with 1 472 px windows) would make memory grow with scene size.
+ */
+export const AUTO_CACHE_MAX_BYTES = 64 * 1024 * 1024;
+
+/** One window's file tiles, in the level's block grid. */
+export interface WindowBlocks {
+  /** File-tile columns across the whole level. */
+  levelCols: number;
+  /** File-tile columns and rows the window touches. */
+  cols: number;
+  rows: number;
+  /** Bytes of one decoded file tile (all bands). */
+  blockBytes: number;
+}
+
+/**
+ * The 'auto' decoded-tile budget, from the largest window read so far. Tiles are read in raster order: neighbouring
+ * windows of a row share the file tiles of their overlap columns, and the next row reuses the file tiles of the
+ * overlap rows, which an LRU keeps only if it holds a whole row of windows' file tiles (levelCols × rows, plus one
+ * window). So: that row band when it fits in `maxBytes` (each file tile decoded once); otherwise the file tiles of
+ * two windows (the last one and the one being read), which keeps the reuse along a row at a size independent of the
+ * scene — a budget between the two would cost memory without saving a decode. With the shipped model at 0.3 m the row
+ * band is ~36 MiB on 4 000² scenes and ~60 MiB on 8 000²; on 16 000² (~108 MiB) it falls back to two windows (~24
+ * MiB) and decodes each file tile ~1.44× (bench/README.md has the cost).
+ */
+export function autoCacheBytes(w: WindowBlocks, maxBytes = AUTO_CACHE_MAX_BYTES): number {
+  const rowBandBytes = (w.levelCols + w.cols) * w.rows * w.blockBytes;
+  const twoWindowsBytes = 2 * w.cols * w.rows * w.blockBytes;
+  const bytes = rowBandBytes <= maxBytes ? rowBandBytes : Math.min(maxBytes, twoWindowsBytes);
+  return Math.max(Math.min(AUTO_CACHE_MIN_BYTES, maxBytes), bytes);
 }
 
 /** Rows per block when the file is stripped (strips are grouped until a block has at least this many rows). */
@@ -256,13 +298,22 @@ async function openTiff(open: () => Promise<GeoTIFF>, opts: GeoTiffSourceOptions
 class GeoTiffSource implements SceneSource {
   readonly info: SceneInfo;
   private readonly cache: TileCache<DecodedBlock>;
+  /** Upper bound of the budget when it follows the windows read (cacheBytes 'auto'), else null. */
+  private readonly autoMaxBytes: number | null;
+  /** Bytes per decoded sample. */
+  private readonly sampleBytes: number;
   private readonly keyPrefix: string;
   private readonly asRgb: boolean;
   private readonly fast = new Map<number, Promise<FastBlockReader | null>>();
 
   constructor(private readonly tiff: GeoTIFF, private readonly levels: GeoTIFFImage[], info: SceneInfo, opts: GeoTiffSourceOptions) {
     this.info = info;
-    this.cache = opts.cache ?? new TileCache<DecodedBlock>({ maxBytes: opts.cacheBytes ?? 128 * 1024 * 1024 });
+    const cacheBytes = opts.cacheBytes ?? 'auto';
+    this.sampleBytes = allocSamples(info.dtype, 0).BYTES_PER_ELEMENT;
+    this.autoMaxBytes = !opts.cache && cacheBytes === 'auto' ? opts.cacheMaxBytes ?? AUTO_CACHE_MAX_BYTES : null;
+    this.cache = opts.cache ?? new TileCache<DecodedBlock>({
+      maxBytes: cacheBytes === 'auto' ? Math.min(AUTO_CACHE_MIN_BYTES, this.autoMaxBytes!) : cacheBytes,
+    });
     this.keyPrefix = `s${sourceCounter++}`;
     this.asRgb = info.photometric === 6 || info.photometric === 3;
   }
@@ -323,6 +374,13 @@ class GeoTiffSource implements SceneSource {
     if (outsideFilled) for (const b of bands) b.fill(nodata ?? 0);
     if (cx1 > cx0 && cy1 > cy0) {
       const { bw, bh } = this.blockSize(level);
+      if (this.autoMaxBytes !== null) {
+        const want = autoCacheBytes({
+          levelCols: Math.ceil(size.widthPx / bw), cols: Math.ceil(cx1 / bw) - Math.floor(cx0 / bw), rows: Math.ceil(cy1 / bh) - Math.floor(cy0 / bh),
+          blockBytes: bw * bh * bandCount * this.sampleBytes,
+        }, this.autoMaxBytes);
+        if (want > this.cache.maxBytes) this.cache.setMaxBytes(want);
+      }
       const jobs: Promise<void>[] = [];
       for (let by = Math.floor(cy0 / bh); by * bh < cy1; by++) {
         for (let bx = Math.floor(cx0 / bw); bx * bw < cx1; bx++) {

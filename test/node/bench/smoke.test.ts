@@ -22,6 +22,12 @@ describe('bench smoke', () => {
       expect(res.cli.block['1280'].tiles).toBeGreaterThan(0);
       expect(res.figures.memoryBound.cli).toBeGreaterThan(0);
       expect(res.figures.overlapOverhead.value).toBeGreaterThanOrEqual(1);
+      // the default tiling per scene is recorded, and every scene ran the same block
+      for (const k of ['640', '1280']) {
+        expect(res.plans[k].default.tiles).toBe(res.plans[k].default.cols * res.plans[k].default.rows);
+        expect(res.figures.overlapOverhead.perScene[k].tilePx).toBe(res.plans[k].default.tilePx);
+        expect(res.cli.block[k].tiles).toBe(res.blockTiles);
+      }
       expect(res.merge.node.map((m: { n: number }) => m.n)).toEqual([10_000, 100_000]);
       expect(res.merge.node[1].kept).toBeLessThan(100_000); // the invented duplicates were merged
     } finally {

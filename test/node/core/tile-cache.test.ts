@@ -50,4 +50,17 @@ describe('TileCache', () => {
     expect(c.stats().bytes).toBeLessThanOrEqual(8 << 20);
     expect(c.stats().entries).toBe(8);
   });
+
+  it('setMaxBytes changes the budget: a smaller one evicts the least recently used at once, a larger one keeps more', () => {
+    const c = new TileCache<Uint8Array>({ maxBytes: 300 });
+    for (const k of ['a', 'b', 'c']) c.set(k, blob(100));
+    c.setMaxBytes(200);
+    expect(c.has('a')).toBe(false);
+    expect(c.stats()).toMatchObject({ maxBytes: 200, bytes: 200, evictions: 1 });
+    c.setMaxBytes(400);
+    c.set('d', blob(100));
+    c.set('e', blob(100));
+    expect(['b', 'c', 'd', 'e'].every((k) => c.has(k))).toBe(true);
+    expect(() => c.setMaxBytes(-1)).toThrow('maxBytes');
+  });
 });

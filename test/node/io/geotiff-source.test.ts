@@ -4,7 +4,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { execFileSync } from 'node:child_process';
 import { describe, expect, it } from 'vitest';
-import { openGeoTiffBlob, openGeoTiffPath, sourceCacheStats } from '../../../web/io/geotiff-source.ts';
+import { AUTO_CACHE_MIN_BYTES, autoCacheBytes, openGeoTiffBlob, openGeoTiffPath, sourceCacheStats } from '../../../web/io/geotiff-source.ts';
 import { writeGeoTiff } from '../../fixtures/gdal-scenes.ts';
 import { SeamtallyError } from '../../../web/core/errors.ts';
 
@@ -98,6 +98,32 @@ describe('geotiff source (GDAL-written fixtures)', () => {
     expect(st.hits).toBeGreaterThan(0);
     await src.close();
   });
+
+  it("the 'auto' budget grows to the row band of the windows read; a fixed budget stays", async () => {
+    const auto = await open(tiled);
+    await auto.readWindow({ minXPx: 0, minYPx: 0, maxXPx: 64, maxYPx: 64 });
+    // 150 px wide, 32 px tiles: 5 columns across; the window touches 2 × 2 file tiles of 32² × 3 bytes
+    expect(sourceCacheStats(auto)!.maxBytes).toBe(Math.max(AUTO_CACHE_MIN_BYTES, (5 + 2) * 2 * 32 * 32 * 3));
+    await auto.close();
+    const fixed = await openGeoTiffPath(tiled, { cacheBytes: 4096 });
+    for (let x = 0; x + 64 <= W; x += 16) await fixed.readWindow({ minXPx: x, minYPx: 0, maxXPx: x + 64, maxYPx: 64 });
+    expect(sourceCacheStats(fixed)!).toMatchObject({ maxBytes: 4096 });
+    expect(sourceCacheStats(fixed)!.bytes).toBeLessThanOrEqual(4096);
+    await fixed.close();
+  });
+
+  // Rows: { window's file tiles, cap } → budget. 512² RGB 8-bit file tiles (786 432 B); a 1 474 px read touches 4 × 4.
+  const MiB = 2 ** 20, tile = 512 * 512 * 3;
+  const budgetRows = [
+    { name: '4 000² scene: row band (8 across + 4) × 4 rows', w: { levelCols: 8, cols: 4, rows: 4, blockBytes: tile }, cap: 128 * MiB, want: 48 * tile },
+    { name: '16 000² scene, 64 MiB cap: two windows (no reuse across rows)', w: { levelCols: 32, cols: 4, rows: 4, blockBytes: tile }, cap: 64 * MiB, want: 32 * tile },
+    { name: '16 000² scene, 128 MiB cap: row band (32 + 4) × 4 = 108 MiB', w: { levelCols: 32, cols: 4, rows: 4, blockBytes: tile }, cap: 128 * MiB, want: 144 * tile },
+    { name: 'default cap: 8 000² row band (16 + 4) × 4 = 60 MiB fits', w: { levelCols: 16, cols: 4, rows: 4, blockBytes: tile }, cap: undefined, want: 80 * tile },
+    { name: 'default cap: 16 000² → two windows', w: { levelCols: 32, cols: 4, rows: 4, blockBytes: tile }, cap: undefined, want: 32 * tile },
+    { name: 'tiny windows: the 8 MiB floor', w: { levelCols: 2, cols: 1, rows: 1, blockBytes: 1024 }, cap: 128 * MiB, want: AUTO_CACHE_MIN_BYTES },
+    { name: 'a cap below the floor wins', w: { levelCols: 2, cols: 1, rows: 1, blockBytes: 1024 }, cap: MiB, want: MiB },
+  ];
+  for (const r of budgetRows) it(`autoCacheBytes: ${r.name}`, () => expect(autoCacheBytes(r.w, r.cap)).toBe(r.want));
 
   it('a Blob source gives the same pixels', async () => {
     const bytes = readFileSync(tiled);
