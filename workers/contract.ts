@@ -110,10 +110,53 @@ export interface CoverageMaskSpec extends ValidMask {
   failedTilesPx?: PixelBox[];
 }
 
-/** Merging and coverage run off the main thread in the tally worker. */
+/** Boxes of one merged table for the map picture (the drawn columns, `count` rows each). */
+export interface PictureBoxes {
+  count: number;
+  cxM: Float64Array;
+  cyM: Float64Array;
+  lengthM: Float32Array;
+  widthM: Float32Array;
+  angleRad: Float32Array;
+  classIdx: Uint8Array;
+}
+
+/** One date of the map picture: its boxes in the date's metric frame and how each is drawn. */
+export interface PictureDate {
+  dateIso: string;
+  /** The page's key of the table the boxes come from; `boxes` is sent only with a key the worker does not hold. */
+  tableKey: number;
+  boxes?: PictureBoxes;
+  frameEpsg: number;
+  /** Per row: 0 not drawn, 1 counted, 2 rejected, 3 added (workers/draw-detections.ts LOOK_*). */
+  look: Uint8Array;
+  /** Row drawn as the selected detection, or -1. */
+  selectedRow: number;
+  /** False when the map shows another date. */
+  shown: boolean;
+}
+
+/** What the map's detections layer shows (every date; tables not listed are forgotten by the worker). */
+export interface DetectionsPicture {
+  dates: PictureDate[];
+}
+
+/** The part of the map a picture is painted for: extent in the view CRS, map units per CSS pixel, device pixel ratio. */
+export interface PictureView {
+  extent: [number, number, number, number];
+  resolution: number;
+  pixelRatio: number;
+  viewEpsg: number;
+}
+
+/** Merging, coverage and the map's detections picture run off the main thread in the tally worker. */
 export interface TallyApi {
   /** Imaged fraction of an AOI (rings in the frame `frameEpsg`) over the masks of one date's scenes (core aoiCoverage). */
   coverage(aoiPolygons: MapXY[][][], frameEpsg: number, masks: CoverageMaskSpec[]): Promise<Result<number>>;
   /** Merge tile tables of one date (core-cut already) with cross-tile / cross-scene NMS in ground metres. */
   mergeDate(tables: DetectionTable[], opts: { iouThreshold?: number }): Promise<Result<DetectionTable>>;
+  /** Replace the detections picture (its buffers are transferred). */
+  setPicture(picture: DetectionsPicture): Promise<Result<void>>;
+  /** Paint the current picture for `view` (the bitmap is transferred). */
+  paintPicture(view: PictureView): Promise<Result<ImageBitmap>>;
 }

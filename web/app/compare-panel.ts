@@ -2,7 +2,7 @@
 import type { AppState } from './state.ts';
 import type { DateTally } from './tally.ts';
 import { compareDates } from './compare.ts';
-import { h, setChildren, fmt } from './dom.ts';
+import { h, setChildren, fmt, renderWhenShown } from './dom.ts';
 import { renderCountsChart } from './counts-chart.ts';
 
 /** One line per distinct reason why comparisons are weak (the table cells carry them as tooltips). */
@@ -45,6 +45,8 @@ export function mountComparePanel(state: AppState, el: HTMLElement, getTally: ()
         c.weakReasons.length ? h('td.l.weak', { title: c.weakReasons.join('; ') }, 'weak') : h('td.l.lvl-reliable', {}, 'like for like'))))),
       weakNotes(rows));
   };
-  for (const ev of ['results-changed', 'threshold-changed', 'review-changed', 'aois-changed', 'coverage-changed'] as const) state.events.on(ev, () => queueMicrotask(render));
-  render();
+  // Only while the tab is shown: updating the chart is the costliest part of a results change during a run.
+  const update = renderWhenShown(el, render);
+  for (const ev of ['results-changed', 'threshold-changed', 'review-changed', 'aois-changed', 'coverage-changed'] as const) state.events.on(ev, () => queueMicrotask(update));
+  update();
 }

@@ -1,101 +1,129 @@
 // Detections on the map: oriented boxes coloured by class (rejected red, added white, the selected one filled).
-// Boxes are drawn as a few MultiPolygon features, one per date × class × review look, so tens of thousands of
-// detections cost a few features rather than one OpenLayers Feature each.
-import VectorLayer from 'ol/layer/Vector.js';
-import VectorSource from 'ol/source/Vector.js';
-import Feature from 'ol/Feature.js';
-import MultiPolygon from 'ol/geom/MultiPolygon.js';
-import Polygon from 'ol/geom/Polygon.js';
-import { Style, Stroke, Fill } from 'ol/style.js';
+// The page only decides how each detection looks (a byte per row) and sends that, with each merged table's boxes
+// once, to the tally worker, which paints the picture for the current view (workers/draw-detections.ts); the map
+// shows the returned bitmap as an image layer. Drawing tens of thousands of boxes then costs the page a drawImage.
+import ImageLayer from 'ol/layer/Image.js';
+import ImageSource from 'ol/source/Image.js';
+import type { Extent } from 'ol/extent.js';
+import { transfer, type Remote } from 'comlink';
 import type { MapView } from './map-view.ts';
 import type { AppState } from './state.ts';
 import { reviewedTable } from './date-table.ts';
-import { boxCornersInto } from '../core/oriented-box.ts';
 import { createTransform, parseEpsgName } from '../core/crs.ts';
 import { countsUnderRule } from '../core/counts.ts';
-import type { ReviewState } from '../core/types.ts';
+import { fromErrorInfo } from '../core/errors.ts';
+import type { ReviewState, DetectionTable } from '../core/types.ts';
+import type { DetectionsPicture, PictureBoxes, TallyApi } from '../../workers/contract.ts';
+import { LOOK_ADDED, LOOK_COUNTED, LOOK_NONE, LOOK_REJECTED } from '../../workers/draw-detections.ts';
 
-const classColours = ['#4fd1c5', '#f27f5b', '#b39ddb', '#9ccc65', '#ffd54f', '#64b5f6'];
+export { classColour } from '../../workers/draw-detections.ts';
 
-/** Colour of a class index (the same in map, tables and chart). */
-export function classColour(classIdx: number): string { return classColours[classIdx % classColours.length]; }
+function lookOf(score: number, review: ReviewState, minScore: number): number {
+  if (review === 'rejected') return LOOK_REJECTED;
+  if (review === 'added') return LOOK_ADDED;
+  return countsUnderRule(score, review, minScore) ? LOOK_COUNTED : LOOK_NONE;
+}
 
-type Look = 'counted' | 'rejected' | 'added';
+/** The drawn columns of `t`, copied to their own buffers (so they can be transferred). */
+function boxesOf(t: DetectionTable): PictureBoxes {
+  const n = t.count;
+  return { count: n, cxM: t.cxM.slice(0, n), cyM: t.cyM.slice(0, n), lengthM: t.lengthM.slice(0, n), widthM: t.widthM.slice(0, n),
+    angleRad: t.angleRad.slice(0, n), classIdx: t.classIdx.slice(0, n) };
+}
 
-function lookOf(score: number, review: ReviewState, minScore: number): Look | null {
-  if (review === 'rejected') return 'rejected';
-  if (review === 'added') return 'added';
-  return countsUnderRule(score, review, minScore) ? 'counted' : null;
+function blankBitmap(): ImageBitmap {
+  const c = new OffscreenCanvas(1, 1);
+  c.getContext('2d');
+  return c.transferToImageBitmap();
+}
+
+/** An image source whose picture is painted by a worker; `redraw` asks for a new one (the old stays until it comes). */
+class PaintedSource extends ImageSource {
+  redraw(): void {
+    this.image = null;
+    this.changed();
+  }
 }
 
 export class DetectionsLayer {
-  private source = new VectorSource({ useSpatialIndex: false });
-  private styles = new Map<string, Style>();
+  private source: PaintedSource;
+  private tableKeys = new WeakMap<DetectionTable, number>();
+  private nextKey = 1;
+  /** Table keys whose boxes the worker holds (those of the last picture sent). */
+  private sentKeys = new Set<number>();
+  private queued = false;
+  private failed = false;
+  private painting: Promise<unknown> = Promise.resolve();
+  private paintSeq = 0;
 
-  constructor(private view: MapView, private state: AppState) {
-    view.overlays.getLayers().push(new VectorLayer({ source: this.source, zIndex: 20, style: (f) => this.styleOf(f as Feature) }));
-    for (const ev of ['results-changed', 'review-changed', 'threshold-changed', 'selection-changed'] as const) {
+  constructor(private view: MapView, private state: AppState, private tally: Remote<TallyApi>) {
+    this.source = new PaintedSource({ loader: (extent, resolution, pixelRatio) => this.paint(extent, resolution, pixelRatio) });
+    view.overlays.getLayers().push(new ImageLayer({ source: this.source, zIndex: 20 }));
+    for (const ev of ['results-changed', 'review-changed', 'threshold-changed', 'selection-changed', 'shown-date-changed'] as const) {
       state.events.on(ev, () => this.rebuild());
     }
-    state.events.on('shown-date-changed', () => this.source.changed());
   }
 
-  private styleOf(f: Feature): Style | undefined {
-    if (this.state.shownDate !== null && f.get('date') !== this.state.shownDate) return undefined;
-    const key = `${f.get('cls')}|${f.get('look')}`;
-    let st = this.styles.get(key);
-    if (!st) {
-      const look = f.get('look') as Look | 'selected';
-      const colour = look === 'rejected' ? '#ff7b7b' : look === 'added' ? '#ffffff' : classColour(f.get('cls'));
-      st = new Style({
-        stroke: new Stroke({ color: look === 'selected' ? '#ffffff' : colour, width: look === 'selected' ? 3.5 : 1.6, lineDash: look === 'rejected' ? [3, 3] : undefined }),
-        fill: look === 'selected' ? new Fill({ color: 'rgba(255,255,255,0.25)' }) : undefined,
-      });
-      this.styles.set(key, st);
-    }
-    return st;
-  }
-
-  /** Rebuild the few bucket features from the results, the slider, review and selection. */
+  /** Redraw from the results, the slider, review, selection and shown date (once per task, however often asked). */
   rebuild(): void {
-    const viewEpsg = parseEpsgName(this.view.projectionCode());
-    const features: Feature[] = [];
-    const xy = new Float64Array(8);
-    const sel = this.state.selection;
-    for (const d of this.state.results) {
-      const rt = reviewedTable(this.state, d);
+    if (this.queued) return;
+    this.queued = true;
+    queueMicrotask(() => {
+      this.queued = false;
+      this.send();
+    });
+  }
+
+  private send(): void {
+    const state = this.state;
+    const picture: DetectionsPicture = { dates: [] };
+    const buffers: Transferable[] = [];
+    const keys = new Set<number>();
+    for (const d of state.results) {
+      const rt = reviewedTable(state, d);
       const t = rt.table;
-      // Corners in the frame, then one hop into the view CRS (none when the view is in the frame, the usual case).
-      const toView = createTransform(parseEpsgName(t.frameCrs), viewEpsg);
-      const buckets = new Map<string, { cls: number; look: Look; flat: number[]; ends: number[][] }>();
-      const ring = (i: number, flat: number[]) => {
-        boxCornersInto(t.cxM[i], t.cyM[i], t.lengthM[i], t.widthM[i], t.angleRad[i], xy);
-        for (const k of [0, 2, 4, 6, 0]) { const p = toView([xy[k], xy[k + 1]]); flat.push(p[0], p[1]); }
-      };
-      for (let i = 0; i < t.count; i++) {
-        const look = lookOf(t.score[i], rt.review[i], this.state.minScore);
-        if (!look) continue;
-        const key = `${t.classIdx[i]}|${look}`;
-        let b = buckets.get(key);
-        if (!b) { b = { cls: t.classIdx[i], look, flat: [], ends: [] }; buckets.set(key, b); }
-        ring(i, b.flat);
-        b.ends.push([b.flat.length]);
-      }
-      for (const b of buckets.values()) {
-        const f = new Feature(new MultiPolygon(b.flat, 'XY', b.ends));
-        f.setProperties({ date: d.dateIso, cls: b.cls, look: b.look }, true);
-        features.push(f);
-      }
-      if (sel && sel.dateIso === d.dateIso && sel.row < t.count) {
-        const flat: number[] = [];
-        ring(sel.row, flat);
-        const f = new Feature(new Polygon(flat, 'XY', [flat.length]));
-        f.setProperties({ date: d.dateIso, cls: t.classIdx[sel.row], look: 'selected' }, true);
-        features.push(f);
-      }
+      let key = this.tableKeys.get(t);
+      if (key === undefined) { key = this.nextKey++; this.tableKeys.set(t, key); }
+      const look = new Uint8Array(t.count);
+      for (let i = 0; i < t.count; i++) look[i] = lookOf(t.score[i], rt.review[i], state.minScore);
+      const boxes = this.sentKeys.has(key) || keys.has(key) ? undefined : boxesOf(t);
+      if (boxes) buffers.push(...[boxes.cxM, boxes.cyM, boxes.lengthM, boxes.widthM, boxes.angleRad, boxes.classIdx].map((c) => c.buffer as ArrayBuffer));
+      buffers.push(look.buffer);
+      keys.add(key);
+      const sel = state.selection;
+      picture.dates.push({
+        dateIso: d.dateIso, tableKey: key, boxes, frameEpsg: parseEpsgName(t.frameCrs), look,
+        selectedRow: sel && sel.dateIso === d.dateIso && sel.row < t.count ? sel.row : -1,
+        shown: state.shownDate === null || state.shownDate === d.dateIso,
+      });
     }
-    this.source.clear(true);
-    this.source.addFeatures(features);
+    this.sentKeys = keys;
+    // Messages reach the worker in order, so the paint this redraw asks for sees the new picture.
+    void this.tally.setPicture(transfer(picture, buffers)).then((r) => { if (!r.ok) this.report(r.error.message); });
+    this.source.redraw();
+  }
+
+  /**
+   * The source's loader. One paint at a time: a request overtaken by a newer one while it waited (a slider being
+   * dragged, a run's merges) is answered with an empty bitmap, which the map never shows, instead of being painted.
+   */
+  private async paint(extent: Extent, resolution: number, pixelRatio: number): Promise<ImageBitmap> {
+    const seq = ++this.paintSeq;
+    await this.painting;
+    if (seq !== this.paintSeq) return blankBitmap();
+    const viewEpsg = parseEpsgName(this.view.projectionCode());
+    const job = this.tally.paintPicture({ extent: [extent[0], extent[1], extent[2], extent[3]], resolution, pixelRatio, viewEpsg });
+    this.painting = job.catch(() => undefined);
+    const r = await job;
+    if (!r.ok) { this.report(r.error.message); throw fromErrorInfo(r.error); }
+    return r.value;
+  }
+
+  /** The first failure to draw is told once (counts and exports are not affected). */
+  private report(message: string): void {
+    if (this.failed) return;
+    this.failed = true;
+    this.state.events.emit('notice', { level: 'error', text: `The map cannot show the detections (${message}); counts, review and exports still work. Reload the page to try again.` });
   }
 
   /** Centre of a detection in view coordinates (to bring it into view while reviewing). */

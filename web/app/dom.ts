@@ -32,3 +32,17 @@ export function setChildren(el: Element, ...children: Child[]): void {
 export function fmt(x: number | null | undefined, decimals = 0): string {
   return x === null || x === undefined || !Number.isFinite(x) ? '–' : x.toFixed(decimals);
 }
+
+/**
+ * A render for a tab pane that only runs while the pane is shown (class `active`, see layout.ts): asked while
+ * hidden, it runs once when the pane is next shown. Returns the function to call instead of `render`.
+ */
+export function renderWhenShown(pane: HTMLElement, render: () => void): () => void {
+  let stale = false;
+  new MutationObserver(() => {
+    if (stale && pane.classList.contains('active')) { stale = false; render(); }
+  }).observe(pane, { attributes: true, attributeFilter: ['class'] });
+  return () => {
+    if (pane.classList.contains('active')) { stale = false; render(); } else stale = true;
+  };
+}

@@ -52,7 +52,7 @@ async function main(): Promise<void> {
     holeDrawn: (ring) => { void addHole(state, ring); },
     edited: (id, polys) => { void editArea(state, id, polys); },
   });
-  const detections = new DetectionsLayer(view, state);
+  const detections = new DetectionsLayer(view, state, tally.api);
   const runs = new RunController(state, { pool, tally: tally.api }, { paceMs: config.paceMs });
   let lastTally: DateTally[] = [];
 

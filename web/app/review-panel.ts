@@ -9,7 +9,7 @@ import type { DetectionsLayer } from './detections-layer.ts';
 import type { Layout } from './layout.ts';
 import { reviewedTable } from './date-table.ts';
 import { setReview, addBox, removeAdded } from './review-actions.ts';
-import { h, setChildren, fmt } from './dom.ts';
+import { h, setChildren, fmt, renderWhenShown } from './dom.ts';
 
 export interface ReviewServices { view: MapView; detections: DetectionsLayer; layout: Layout }
 
@@ -108,6 +108,8 @@ export function mountReviewPanel(state: AppState, el: HTMLElement, svc: ReviewSe
     setChildren(summary, h('span', { dataset: { testid: 'reviewed-count', value: String(decided) } }, `${decided} of ${rows.length} checked`),
       h('span.muted', {}, ` · ${rt.addedIds.length} added by hand`));
   };
-  for (const ev of ['results-changed', 'review-changed', 'threshold-changed', 'shown-date-changed', 'model-changed'] as const) state.events.on(ev, render);
-  render();
+  // Only while the tab is shown (it sorts every candidate detection); shown later, it renders then.
+  const update = renderWhenShown(el, render);
+  for (const ev of ['results-changed', 'review-changed', 'threshold-changed', 'shown-date-changed', 'model-changed'] as const) state.events.on(ev, update);
+  update();
 }

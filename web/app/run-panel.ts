@@ -26,7 +26,7 @@ export function mountRunPanel(state: AppState, el: HTMLElement, runs: RunControl
     go.textContent = p.status === 'cancelled' ? 'Resume' : 'Detect';
     stop.disabled = !busy;
     const share = p.tilesTotal ? p.tilesDone / p.tilesTotal : 0;
-    bar.style.width = `${(share * 100).toFixed(1)}%`;
+    bar.style.transform = `scaleX(${share.toFixed(4)})`;
     const left = p.tilesPerS > 0 ? (p.tilesTotal - p.tilesDone) / p.tilesPerS : NaN;
     stats.textContent = p.tilesTotal
       ? `${p.tilesDone} / ${p.tilesTotal} tiles · ${fmt(p.tilesPerS, 1)} tiles/s · ${busy && Number.isFinite(left) ? `about ${fmt(left, 0)} s left` : p.status}`

@@ -33,9 +33,14 @@ export function mountTallyPanel(state: AppState, el: HTMLElement, coverage: Cove
     h('p.muted', {}, `Counting rule: ${COUNTING_RULE}`),
   );
 
+  let shownDates = '';
   const render = () => {
     const dates = [...new Set(state.scenes.map((s) => s.dateIso))].sort();
-    setChildren(dateSel, h('option', { value: '' }, 'all dates'), ...dates.map((d) => h('option', { value: d, selected: state.shownDate === d }, d)));
+    const datesKey = `${state.shownDate}|${dates.join(',')}`;
+    if (datesKey !== shownDates) { // not rebuilt on every result during a run
+      shownDates = datesKey;
+      setChildren(dateSel, h('option', { value: '' }, 'all dates'), ...dates.map((d) => h('option', { value: d, selected: state.shownDate === d }, d)));
+    }
     const tally = computeTally(state, coverage);
     onTally(tally);
     if (tally.length === 0) { setChildren(table, h('p.muted', {}, 'Run the detector to see counts.')); setChildren(notes); return; }
