@@ -111,15 +111,7 @@ export interface CoverageMaskSpec extends ValidMask {
 }
 
 /** Boxes of one merged table for the map picture (the drawn columns, `count` rows each). */
-export interface PictureBoxes {
-  count: number;
-  cxM: Float64Array;
-  cyM: Float64Array;
-  lengthM: Float32Array;
-  widthM: Float32Array;
-  angleRad: Float32Array;
-  classIdx: Uint8Array;
-}
+export type PictureBoxes = Pick<DetectionTable, 'count' | 'cxM' | 'cyM' | 'lengthM' | 'widthM' | 'angleRad' | 'classIdx'>;
 
 /** One date of the map picture: its boxes in the date's metric frame and how each is drawn. */
 export interface PictureDate {
