@@ -6,7 +6,7 @@
 import { Unzlib } from 'fflate';
 import { addDecoder, BaseDecoder } from 'geotiff';
 import { SeamtallyError } from '../core/errors.ts';
-import { lzwBlockBytes } from './lzw-decoder.ts';
+import { decodedBlockBytes, type DecoderBlockParams } from './lzw-decoder.ts';
 
 /**
  * A synchronous inflate that returns at most `maxOutBytes` bytes and throws beyond that (e.g. Node's
@@ -132,7 +132,7 @@ async function inflateFflate(bytes: Uint8Array, maxOutBytes: number, signal?: Ab
  */
 export class BoundedDeflateDecoder extends BaseDecoder {
   override async decodeBlock(buffer: ArrayBuffer): Promise<ArrayBuffer> {
-    const out = await inflateBounded(new Uint8Array(buffer), lzwBlockBytes((this as unknown as { parameters: Parameters<typeof lzwBlockBytes>[0] }).parameters));
+    const out = await inflateBounded(new Uint8Array(buffer), decodedBlockBytes((this as unknown as { parameters: DecoderBlockParams }).parameters));
     return out.buffer.slice(out.byteOffset, out.byteOffset + out.length) as ArrayBuffer;
   }
 }

@@ -70,10 +70,10 @@ export function decodeLzw(input: Uint8Array, maxBytes: number): Uint8Array {
   return out.subarray(0, pos);
 }
 
-interface LzwParams { tileWidth?: number; tileHeight?: number; planarConfiguration?: number; bitsPerSample?: number | ArrayLike<number> }
+export interface DecoderBlockParams { tileWidth?: number; tileHeight?: number; planarConfiguration?: number; bitsPerSample?: number | ArrayLike<number> }
 
-/** Bytes one block can hold: row bytes (rounded up) × rows, for all samples (chunky) or one (planar). */
-export function lzwBlockBytes(p: LzwParams): number {
+/** Bytes one decoded block (LZW or DEFLATE) can hold, from geotiff decoder parameters: row bytes (rounded up) × rows, for all samples (chunky) or one (planar). */
+export function decodedBlockBytes(p: DecoderBlockParams): number {
   const bits = p.bitsPerSample === undefined ? [] : typeof p.bitsPerSample === 'number' ? [p.bitsPerSample] : Array.from(p.bitsPerSample);
   const pixelBits = p.planarConfiguration === 2 ? (bits[0] ?? 0) : bits.reduce((a, b) => a + b, 0);
   const w = Number(p.tileWidth), h = Number(p.tileHeight);
@@ -83,7 +83,7 @@ export function lzwBlockBytes(p: LzwParams): number {
 
 export class BoundedLzwDecoder extends BaseDecoder {
   override decodeBlock(buffer: ArrayBuffer): ArrayBuffer {
-    const out = decodeLzw(new Uint8Array(buffer), lzwBlockBytes((this as unknown as { parameters: LzwParams }).parameters));
+    const out = decodeLzw(new Uint8Array(buffer), decodedBlockBytes((this as unknown as { parameters: DecoderBlockParams }).parameters));
     return out.buffer.slice(0, out.length) as ArrayBuffer;
   }
 }

@@ -6,7 +6,7 @@ import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { SeamtallyError } from '../../../web/core/errors.ts';
 import { openGeoTiffBlob } from '../../../web/io/geotiff-source.ts';
-import { decodeLzw, lzwBlockBytes } from '../../../web/io/lzw-decoder.ts';
+import { decodeLzw, decodedBlockBytes } from '../../../web/io/lzw-decoder.ts';
 import { writeGeoTiff } from '../../fixtures/gdal-scenes.ts';
 
 const dir = mkdtempSync(join(tmpdir(), 'seamtally-lzw-'));
@@ -80,9 +80,9 @@ describe('decodeLzw on hand-made streams', () => {
   });
 
   it('block size from decoder parameters (chunky: all samples; planar: one)', () => {
-    expect(lzwBlockBytes({ tileWidth: 256, tileHeight: 256, planarConfiguration: 1, bitsPerSample: [8, 8, 8] })).toBe(196608);
-    expect(lzwBlockBytes({ tileWidth: 256, tileHeight: 8, planarConfiguration: 2, bitsPerSample: [16, 16] })).toBe(4096);
-    expect(lzwBlockBytes({ tileWidth: 10, tileHeight: 3, planarConfiguration: 1, bitsPerSample: [12] })).toBe(45);
+    expect(decodedBlockBytes({ tileWidth: 256, tileHeight: 256, planarConfiguration: 1, bitsPerSample: [8, 8, 8] })).toBe(196608);
+    expect(decodedBlockBytes({ tileWidth: 256, tileHeight: 8, planarConfiguration: 2, bitsPerSample: [16, 16] })).toBe(4096);
+    expect(decodedBlockBytes({ tileWidth: 10, tileHeight: 3, planarConfiguration: 1, bitsPerSample: [12] })).toBe(45);
   });
 
   it('a damaged LZW strip in a file ends as a typed "damaged" error through the scene source', async () => {
