@@ -5,7 +5,7 @@ import { decodeOutputs, normaliseAxisAngle, type PixelDetections, type TensorLik
 import { SeamtallyError } from './errors.ts';
 import { pixelToMap } from './geotransform.ts';
 import { tileAlignPxOf, type ModelSidecar } from './model-contract.ts';
-import { computeStretch, joinSamples, normaliseInPlace, readStretchSample, selectBands, type BandSelection, type Stretch, type StretchOptions } from './radiometry.ts';
+import { computeStretch, hasValidSample, joinSamples, normaliseInPlace, readStretchSample, selectBands, type BandSelection, type Stretch, type StretchOptions } from './radiometry.ts';
 import { planResample, resampleBand } from './resample.ts';
 import { fillUnit, isContiguousUnit } from './fill-unit.ts';
 import type { RasterWindow, SceneSource } from './scene-source.ts';
@@ -101,7 +101,7 @@ export async function prepareScene(source: SceneSource, sceneIdx: number, sideca
   const bands = selectBands(info, opts.bands);
   const windows = await readStretchSample(source, opts.signal);
   // A whole level read and not one valid pixel: say so now (8-bit scenes get no percentile pass that would notice).
-  if (windows.length === 1 && !hasValidPixel(windows[0], bands)) {
+  if (windows.length === 1 && !hasValidSample(windows[0], new Set(bands.indices))) {
     throw new SeamtallyError('all-nodata', `"${info.name}" has no valid pixels (every pixel is nodata), so there is nothing to count: check that you picked the right scene, and its nodata value with gdalinfo.`);
   }
   const sample = joinSamples(windows);
@@ -113,15 +113,6 @@ export async function prepareScene(source: SceneSource, sceneIdx: number, sideca
     minScore: opts.minScore ?? sidecar.minScore ?? 0.5,
     userDefs: opts.userDefs,
   };
-}
-
-function hasValidPixel(win: RasterWindow, bands: BandSelection): boolean {
-  const nd = win.nodata;
-  for (const b of new Set(bands.indices)) {
-    const a = win.bands[b];
-    for (let i = 0; i < a.length; i++) if (!Number.isNaN(a[i]) && a[i] !== nd) return true;
-  }
-  return false;
 }
 
 /** Reusable per-worker buffers: the NCHW input tensor and a validity mask of one tile. */

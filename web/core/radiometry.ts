@@ -198,13 +198,16 @@ export async function readStretchSample(source: SceneSource, signal?: AbortSigna
     return out;
   };
   const coarse = await grid(4);
-  return coarse.some(anyValidSample) ? coarse : grid(16);
+  return coarse.some((w) => hasValidSample(w)) ? coarse : grid(16);
 }
 
-/** Whether any band of the window holds a pixel that is neither nodata nor NaN. */
-function anyValidSample(win: RasterWindow): boolean {
+/** Whether any of the given bands (default: all) of the window holds a pixel that is neither nodata nor NaN. */
+export function hasValidSample(win: RasterWindow, bandIndices: Iterable<number> = win.bands.keys()): boolean {
   const nd = win.nodata;
-  for (const a of win.bands) for (let i = 0; i < a.length; i++) if (!Number.isNaN(a[i]) && a[i] !== nd) return true;
+  for (const b of bandIndices) {
+    const a = win.bands[b];
+    for (let i = 0; i < a.length; i++) if (!Number.isNaN(a[i]) && a[i] !== nd) return true;
+  }
   return false;
 }
 
