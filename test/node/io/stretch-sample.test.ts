@@ -1,5 +1,6 @@
-// The per-scene stretch sample of a scene without overviews: a mostly-nodata 16-bit scene whose only valid pixels
-// lie between the 4 × 4 sample windows is not reported empty (the 16 × 16 grid finds them); a truly empty one is.
+// The per-scene stretch sample of a scene without overviews (self-consistency; scenes written by GDAL): a mostly-
+// nodata 16-bit scene whose only valid pixels lie between the 4 × 4 sample windows is not reported empty (the 16 × 16
+// grid finds them); a truly empty one is.
 import { mkdtempSync, statSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
