@@ -15,6 +15,8 @@ export interface TileRunSpec {
   tiles: number;
   workers: number;
   tilePx?: number;
+  /** Warm-up tiles per worker before the timed block (default 3), see runTiles. */
+  warmupTiles?: number;
 }
 
 /** CPU time so far (ms), read from /proc by the Node side (bench/browser.ts cpuSnapshot) through an exposed function. */
@@ -81,8 +83,17 @@ export async function runTiles(spec: TileRunSpec): Promise<TileRunFigures> {
     const plan: TilePlan = plans[0].plan;
     const tiles = spec.tiles > 0 ? centredBlock(plan, spec.tiles) : plan.tiles;
     const task = (tileIndex: number) => ({ runId: 'bench', sceneKey: 'bench', input, prepare, tileIndex });
-    // warm-up: one tile per worker (onnxruntime's first runs allocate), from outside the timed block
-    await Promise.all(handles.map((h, i) => h.api.detectTile(task(plan.tiles[i % plan.tiles.length].index)).then(unwrap)));
+    // warm-up, not timed: onnxruntime's first runs allocate, and V8 compiles a hot loop (read, fill) to optimised
+    // code only after a few calls — the first tile's fill runs ~5× slower than the tenth. Warm-up tiles run on a
+    // second opening of the scene (its own key, so its own decoded-tile cache, dropped afterwards): the timed block
+    // then starts, as a real run does, with a cold cache but compiled code.
+    const warmKey = 'bench-warm';
+    const warmTask = (tileIndex: number) => ({ runId: 'bench', sceneKey: warmKey, input, prepare, tileIndex });
+    const warm = spec.warmupTiles ?? 3;
+    await Promise.all(handles.map(async (h, i) => {
+      for (let k = 0; k < warm; k++) unwrap(await h.api.detectTile(warmTask(plan.tiles[(i * warm + k) % plan.tiles.length].index)));
+      await h.api.forgetScene(warmKey);
+    }));
     // the app's hand-out (web/app/tile-queue.ts): contiguous bands per worker, work stealing at the end
     const queue = new BandQueue(tiles.map((t) => t.index), handles.length);
     const timings: TileTimingsMs = { readMs: 0, resampleMs: 0, inferMs: 0, decodeMs: 0 };

@@ -40,8 +40,9 @@ const MAX_WORKERS = 2;
 const mergeNs = smoke ? [10_000, 100_000] : [100_000, 1_000_000];
 const outPath = resolve(REPO, values.out ?? 'bench/results.json');
 
-function cliRun(tif: string, tiles: number): CliRun {
-  const args = ['--import', 'tsx', join(REPO, 'bench/cli-run.ts'), tif, modelPath, '--threads', '1'];
+/** One CLI child run; `pipelined`: 'also' (block: serial, then pipelined as the CLI runs) or 'only' (whole scenes). */
+function cliRun(tif: string, tiles: number, pipelined: 'also' | 'only'): CliRun {
+  const args = ['--import', 'tsx', join(REPO, 'bench/cli-run.ts'), tif, modelPath, '--threads', '1', '--pipelined', pipelined];
   if (tiles > 0) args.push('--tiles', String(tiles));
   if (forcedTilePx) args.push('--tile', String(forcedTilePx));
   if (values['cache-mb']) args.push('--cache-mb', values['cache-mb']);
@@ -81,10 +82,10 @@ log(`block: ${blockTiles} tiles per scene (asked ${askedTiles}; the most every s
 for (const [k, tif] of scenes.entries()) {
   const key = String(sizes[k]);
   log(`CLI ${key}²: ${blockTiles}-tile block…`);
-  raw.cli.block[key] = cliRun(tif, blockTiles);
+  raw.cli.block[key] = cliRun(tif, blockTiles, 'also');
   if (!quick) {
     log(`CLI ${key}²: whole scene…`);
-    raw.cli.full[key] = cliRun(tif, 0);
+    raw.cli.full[key] = cliRun(tif, 0, 'only');
   }
 }
 
