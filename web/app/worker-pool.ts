@@ -4,13 +4,15 @@
 // (bounded), after which the tile is reported failed — every task ends in exactly one of done / failed.
 import type { Remote } from 'comlink';
 import type { DetectorApi, TileDetections, TileTask } from '../../workers/contract.ts';
+import { threadsPerWorker } from './pool-threads.ts';
 import { spawnDetector, type WorkerHandle } from '../../workers/spawn.ts';
 import type { ModelEntry } from './state.ts';
 import type { FaultPlan } from './faults.ts';
 import { BandQueue } from './tile-queue.ts';
 import { fromErrorInfo, SeamtallyError, type ErrorInfo, type Result } from '../core/errors.ts';
 
-interface Slot { handle: WorkerHandle<DetectorApi>; modelReady: Promise<void> | null }
+/** `threads`: the onnxruntime threads the slot's model was (or is being) loaded with; 0 before any load. */
+interface Slot { handle: WorkerHandle<DetectorApi>; modelReady: Promise<void> | null; threads: number }
 interface QueueItem { task: TileTask; attempts: number; ordinal: number }
 
 /** Tries per tile: the first and two retries. */
@@ -36,17 +38,28 @@ export class DetectorPool {
 
   get size(): number { return this.slots.length; }
 
-  /** Grow or shrink the pool (workers beyond `size` are terminated). */
+  /**
+   * Grow or shrink the pool (workers beyond `size` are terminated). The cores are shared out again for the new size
+   * (pool-threads.ts): new workers load the model with that thread count, and workers loaded with another count
+   * reload it, so a pool grown from 1 to 2 workers on 2 cores runs 1 + 1 inference threads, not 2 + 1.
+   */
   resize(size: number): void {
     const n = Math.max(1, Math.floor(size));
     while (this.slots.length > n) this.slots.pop()!.handle.terminate();
-    while (this.slots.length < n) this.slots.push(this.newSlot());
+    while (this.slots.length < n) this.slots.push({ handle: spawnDetector(`seamtally-detector-${this.seq++}`), modelReady: null, threads: 0 });
+    const model = this.model;
+    if (model) for (const s of this.slots) if (s.threads !== this.threadsWanted()) s.modelReady = this.loadInto(s, model);
   }
 
+  /** A fresh worker in place of a lost one, with the model loaded. */
   private newSlot(): Slot {
-    const slot: Slot = { handle: spawnDetector(`seamtally-detector-${this.seq++}`), modelReady: null };
+    const slot: Slot = { handle: spawnDetector(`seamtally-detector-${this.seq++}`), modelReady: null, threads: 0 };
     if (this.model) slot.modelReady = this.loadInto(slot, this.model);
     return slot;
+  }
+
+  private threadsWanted(): number {
+    return threadsPerWorker(navigator.hardwareConcurrency || 1, this.slots.length, self.crossOriginIsolated);
   }
 
   /** Any worker, for one-off jobs (describe a scene, draw a preview). */
@@ -67,7 +80,8 @@ export class DetectorPool {
   }
 
   private async loadInto(slot: Slot, model: ModelEntry): Promise<void> {
-    const threads = self.crossOriginIsolated ? Math.max(1, Math.floor((navigator.hardwareConcurrency || 1) / this.slots.length)) : 1;
+    const threads = this.threadsWanted();
+    slot.threads = threads;
     const r = await Promise.race([slot.handle.api.loadModel(model.bytes.slice(0), model.sidecar, { numThreads: threads }), slot.handle.lost]);
     if (!r.ok) throw fromErrorInfo(r.error);
     this.threadsPerWorker = r.value.numThreads;
