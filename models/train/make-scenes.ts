@@ -1,7 +1,9 @@
 // Training / validation / evaluation scene sets for the detector, written with the synthesizer's own scene writer
 // (the same code `seamtally synth` runs). The sets never share seeds; the evaluation set also uses a scenario,
 // dates (sun angles, seasons) and sensor settings the training set does not.
-// Usage: npx tsx models/train/make-scenes.ts train|lowsun|val|eval|tiling DIR [count]
+// Usage: npx tsx models/train/make-scenes.ts train|lowsun|val|eval|fresh|tiling DIR [count]
+// 'fresh' is a second held-out set made the way 'eval' is (seeds 9201+, its own random draws), kept for one clean
+// check after 'eval' had guided training decisions: look at it once per model version, never to choose anything.
 import { existsSync, mkdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { makeSceneParams, type BandLayout, type BitDepth, type SceneOptions } from '../../synth/scene-params.ts';
@@ -33,20 +35,21 @@ function dateIn(r: () => number, months: number[]): string {
 }
 
 /** The scene options of one set. */
-export function sceneSet(set: 'train' | 'lowsun' | 'val' | 'eval' | 'tiling', count: number): SceneOptions[] {
+export function sceneSet(set: 'train' | 'lowsun' | 'val' | 'eval' | 'fresh' | 'tiling', count: number): SceneOptions[] {
   const out: SceneOptions[] = [];
   // one large held-out scene for the tiling-invariance check (counts with three tile sizes)
   if (set === 'tiling') return [{ name: 'tiling-4000', seed: 9100, gsdM: 0.3, widthPx: 4000, scenario: 'town', date: '2024-10-20', bands: 'rgb', bits: 8 }];
-  if (set === 'eval') {
-    // five evaluation GSDs × scenes; held-out seeds (9001+), autumn/winter dates, other sensor settings
+  if (set === 'eval' || set === 'fresh') {
+    // five evaluation GSDs × scenes; held-out seeds (9001+, fresh: 9201+), autumn/winter dates, other sensor settings
     const gsds = [0.15, 0.3, 0.45, 0.6, 0.8];
-    const r = prng(9001);
+    const seed0 = set === 'eval' ? 9001 : 9201;
+    const r = prng(seed0);
     const per = Math.max(1, Math.round(count / gsds.length));
     for (const g of gsds) {
       for (let k = 0; k < per; k++) {
-        const seed = 9001 + out.length;
+        const seed = seed0 + out.length;
         out.push({
-          name: `eval-${String(out.length).padStart(2, '0')}-g${g}`, seed, gsdM: g, widthPx: sidePx(g),
+          name: `${set}-${String(out.length).padStart(2, '0')}-g${g}`, seed, gsdM: g, widthPx: sidePx(g),
           scenario: k % 2 === 0 ? 'business-park' : 'town', date: dateIn(r, [10, 11, 12, 1, 2]),
           bands: LAYOUTS[out.length % 4], bits: BITS[(out.length * 3 + 1) % 4],
           psfSigmaPx: 0.35 + 0.4 * r(), hazeFraction: 0.02 + 0.1 * r(), readNoiseE: 10 + 30 * r(), occupancy: 0.3 + 0.6 * r(),
@@ -85,7 +88,7 @@ export function sceneSet(set: 'train' | 'lowsun' | 'val' | 'eval' | 'tiling', co
 
 async function main(): Promise<void> {
   const [set, dir, n] = process.argv.slice(2);
-  if (set !== 'train' && set !== 'lowsun' && set !== 'val' && set !== 'eval' && set !== 'tiling') throw new Error('usage: make-scenes.ts train|lowsun|val|eval|tiling DIR [count]');
+  if (set !== 'train' && set !== 'lowsun' && set !== 'val' && set !== 'eval' && set !== 'fresh' && set !== 'tiling') throw new Error('usage: make-scenes.ts train|lowsun|val|eval|fresh|tiling DIR [count]');
   mkdirSync(dir, { recursive: true });
   for (const o of sceneSet(set, Number(n ?? (set === 'train' ? 40 : set === 'val' ? 4 : 10)))) {
     const p = makeSceneParams(o);
