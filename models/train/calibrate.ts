@@ -25,7 +25,8 @@ async function sceneInputs(tif: string, sidecarText: string, k: number): Promise
   const sidecar = parseSidecar(sidecarText);
   const src = await openGeoTiffPath(tif, { byteLength: statSync(tif).size });
   try {
-    const p = await prepareScene(src, 0, sidecar, { tilePx: sidecar.tilePx });
+    // square tilePx² inputs (as fed below): plan as for a fixed-input model, not with sized windows
+    const p = await prepareScene(src, 0, { ...sidecar, maxTilePx: undefined }, { tilePx: sidecar.tilePx });
     const tiles = p.plan.tiles;
     const picks = [...new Set(Array.from({ length: Math.min(k, tiles.length) }, (_, i) => Math.floor(((i + 0.5) * tiles.length) / Math.min(k, tiles.length))))];
     const out: Float32Array[] = [];

@@ -38,7 +38,7 @@ async function realTile(tilePx: number): Promise<Float32Array> {
   const sidecar = parseSidecar(readFileSync(MODELS.fp32.replace(/\.onnx$/, '.model.json'), 'utf8'));
   const src = await openGeoTiffPath(scene, { byteLength: statSync(scene).size });
   try {
-    const p = await prepareScene(src, 0, sidecar, { tilePx });
+    const p = await prepareScene(src, 0, { ...sidecar, maxTilePx: undefined }, { tilePx }); // square tilePx² windows, not sized ones
     const tile = p.plan.tiles[p.plan.tiles.length >> 1];
     const scratch = createTileScratch(tilePx);
     const read = await readTile(p, tile);

@@ -17,19 +17,19 @@ export function isContiguousUnit(plan: ResamplePlan): boolean {
 }
 
 /**
- * Fill a dense T × T NCHW `tensor` from the window bands `src[0..2]` (row-major, `srcW` wide) through a contiguous
- * unit plan; `valid` gets the first channel's validity (as the general path). Values equal those of
+ * Fill a dense NCHW `tensor` of widthPx × the plan's output height (a sized window may be rectangular) from the window
+ * bands `src[0..2]` (row-major, `srcW` wide) through a contiguous unit plan; `valid` gets the first channel's validity (as the general path). Values equal those of
  * resampleBand (fill 0 for nodata) followed by normaliseInPlace. Returns whether any pixel is valid.
  */
 export function fillUnit(
-  src: readonly SampleArray[], srcW: number, plan: ResamplePlan, tilePx: number, nodata: number | null,
+  src: readonly SampleArray[], srcW: number, plan: ResamplePlan, widthPx: number, nodata: number | null,
   stretch: Stretch, norm: InputNormalisation, tensor: Float32Array, valid: Uint8Array,
 ): boolean {
-  const T = tilePx, plane = T * T;
+  const T = widthPx, H = plan.y.start.length, plane = T * H;
   const x0 = plan.x.start[0], y0 = plan.y.start[0];
   if (src[0] instanceof Uint8Array || src[0] instanceof Uint16Array) {
     if (src.every((b) => b.constructor === src[0].constructor)) {
-      return fillUnitLut(src as Array<Uint8Array | Uint16Array>, srcW, x0, y0, T, nodata, stretch, norm, tensor, valid);
+      return fillUnitLut(src as Array<Uint8Array | Uint16Array>, srcW, x0, y0, T, H, nodata, stretch, norm, tensor, valid);
     }
   }
   const hasNd = nodata !== null, nanNd = hasNd && Number.isNaN(nodata);
@@ -40,7 +40,7 @@ export function fillUnit(
     const lo = stretch.low[c], k = 255 / (stretch.high[c] - lo);
     const a = norm.scale / norm.std[c], b = -norm.mean[c] / norm.std[c];
     const off = c * plane;
-    for (let oy = 0; oy < T; oy++) {
+    for (let oy = 0; oy < H; oy++) {
       const row = (y0 + oy) * srcW + x0;
       const o = off + oy * T;
       for (let ox = 0; ox < T; ox++) {
@@ -90,10 +90,10 @@ function channelLuts(stretch: Stretch, norm: InputNormalisation, size: number): 
 }
 
 function fillUnitLut(
-  src: ReadonlyArray<Uint8Array | Uint16Array>, srcW: number, x0: number, y0: number, T: number, nodata: number | null,
+  src: ReadonlyArray<Uint8Array | Uint16Array>, srcW: number, x0: number, y0: number, T: number, H: number, nodata: number | null,
   stretch: Stretch, norm: InputNormalisation, tensor: Float32Array, valid: Uint8Array,
 ): boolean {
-  const plane = T * T;
+  const plane = T * H;
   const luts = channelLuts(stretch, norm, src[0] instanceof Uint8Array ? 256 : 65536);
   // an integer band never holds a fractional or NaN nodata value: then every pixel is valid
   const nd = nodata !== null && Number.isInteger(nodata) ? nodata : -1;
@@ -102,7 +102,7 @@ function fillUnitLut(
     const s = src[c], lut = luts[c];
     const fill = 0 * (norm.scale / norm.std[c]) + -norm.mean[c] / norm.std[c]; // an invalid pixel: 0 · a + b, as in the general loop
     const off = c * plane;
-    for (let oy = 0; oy < T; oy++) {
+    for (let oy = 0; oy < H; oy++) {
       const row = (y0 + oy) * srcW + x0;
       const o = off + oy * T, vo = oy * T;
       if (c === 0) {

@@ -12,8 +12,9 @@ import { SeamtallyError } from './errors.ts';
  *   "inputGsdM": 0.3,                              required, metres per input pixel, 0 < g ≤ 10
  *   "tilePx": 512,                                 required, square input size, integer 32–4096
  *   "maxTilePx": 1536,                             optional, integer tilePx–4096, a multiple of tileAlignPx: the
- *                                                  model also takes square inputs up to this size (dynamic H, W);
- *                                                  the planner may then pick a larger tile to keep overlap low
+ *                                                  model also takes inputs of any H × W (rectangular too) that
+ *                                                  are multiples of lcm(tileAlignPx, stride), up to this size;
+ *                                                  the planner then sizes each window to fit (tiling.ts)
  *   "tileAlignPx": 32,                             optional, integer 1–512 dividing tilePx (default: the output
  *                                                  stride, 1 for "boxes"): the network's total downsampling; tile
  *                                                  windows start on multiples of it so every tiling shows the

@@ -10,10 +10,13 @@ import { planResample, resampleBand } from './resample.ts';
 import { fillUnit, isContiguousUnit } from './fill-unit.ts';
 import type { RasterWindow, SceneSource } from './scene-source.ts';
 import { keepCoreCentres } from './seam-merge.ts';
-import { chooseTilePx, planTiles, type PlannedTile, type TilePlan, type TileSizeInput } from './tiling.ts';
+import { chooseTilePx, inputSizePx, planTiles, type PlannedTile, type TilePlan, type TileSizeInput } from './tiling.ts';
 import { createDetectionTable, type DetectionTable } from './types.ts';
 
-/** The injected detector: one [1, 3, tilePx, tilePx] float32 tensor in, named output tensors out. */
+/**
+ * The injected detector: one float32 tensor of dims [1, 3, H, W] in (tilePx square, or a sized window's own H × W for
+ * a dynamic-input model, so the shape may change from call to call), named output tensors out.
+ */
 export type InferFn = (input: Float32Array, dims: readonly [1, 3, number, number]) => Promise<Record<string, TensorLike>>;
 
 /** Everything one scene's tiles need, prepared once per scene (stretch from an overview, tiling, frame). */
@@ -71,16 +74,25 @@ export function maxObjectExtentM(sidecar: ModelSidecar, fallbackM = 10): number 
 }
 
 /**
+ * The step of input sizes a model with dynamic height and width takes (a maxTilePx above tilePx): the lcm of its tile
+ * alignment and output stride. Undefined for a model with a fixed input: its windows stay tilePx square (padded).
+ */
+export function modelSizeStepPx(sidecar: ModelSidecar): number | undefined {
+  if ((sidecar.maxTilePx ?? sidecar.tilePx) <= sidecar.tilePx) return undefined;
+  const stride = sidecar.output.layout === 'center-heatmap' ? sidecar.output.stride : 1;
+  const a = tileAlignPxOf(sidecar);
+  const gcd = (x: number, y: number): number => (y ? gcd(y, x % y) : x);
+  return (a * stride) / gcd(a, stride);
+}
+
+/**
  * The tile size when the run does not fix one: the sidecar's tilePx, or, for a model that takes a range of sizes
  * (maxTilePx), the size in [tilePx, maxTilePx] that infers the fewest pixels for this scene (`chooseTilePx`).
  */
 export function defaultTilePx(sidecar: ModelSidecar, plan: Omit<TileSizeInput, 'minTilePx' | 'maxTilePx' | 'sizeStepPx'>): number {
-  const maxTilePx = sidecar.maxTilePx ?? sidecar.tilePx;
-  if (maxTilePx <= sidecar.tilePx) return sidecar.tilePx;
-  const stride = sidecar.output.layout === 'center-heatmap' ? sidecar.output.stride : 1;
-  const a = plan.alignPx ?? 1;
-  const gcd = (x: number, y: number): number => (y ? gcd(y, x % y) : x);
-  return chooseTilePx({ ...plan, minTilePx: sidecar.tilePx, maxTilePx, sizeStepPx: (a * stride) / gcd(a, stride) });
+  const sizeStepPx = modelSizeStepPx(sidecar);
+  if (sizeStepPx === undefined) return sidecar.tilePx;
+  return chooseTilePx({ ...plan, minTilePx: sidecar.tilePx, maxTilePx: sidecar.maxTilePx!, sizeStepPx });
 }
 
 /** Prepare one scene: band roles, per-scene stretch (from an overview), tile plan, frame. */
@@ -92,7 +104,7 @@ export async function prepareScene(source: SceneSource, sceneIdx: number, sideca
   const overlapPx = opts.overlapPx ?? 'auto';
   const planBase = {
     sceneWidthPx: info.widthPx, sceneHeightPx: info.heightPx, sceneGsdM, modelGsdM: sidecar.inputGsdM,
-    maxObjectExtentM: extentM, overlapPx, alignPx,
+    maxObjectExtentM: extentM, overlapPx, alignPx, sizeStepPx: modelSizeStepPx(sidecar),
   };
   const tilePx = opts.tilePx ?? defaultTilePx(sidecar, planBase);
   if (sidecar.output.layout === 'center-heatmap' && tilePx % sidecar.output.stride !== 0) {
@@ -115,14 +127,19 @@ export async function prepareScene(source: SceneSource, sceneIdx: number, sideca
   };
 }
 
-/** Reusable per-worker buffers: the NCHW input tensor and a validity mask of one tile. */
+/**
+ * Reusable per-worker buffers: the NCHW input tensor and a validity mask of one tile, for inputs up to tilePx × tilePx;
+ * a smaller input (a sized window of a dynamic-input model) uses their first values (see `tileInput`).
+ */
 export interface TileScratch {
+  /** The largest input side the buffers hold, in model pixels. */
   tilePx: number;
   tensor: Float32Array;
   valid: Uint8Array;
   plane: Float32Array;
 }
 
+/** Buffers for a plan's tiles: `createTileScratch(plan.tilePx)` holds every window of the plan. */
 export function createTileScratch(tilePx: number): TileScratch {
   return { tilePx, tensor: new Float32Array(3 * tilePx * tilePx), valid: new Uint8Array(tilePx * tilePx), plane: new Float32Array(tilePx * tilePx) };
 }
@@ -140,16 +157,29 @@ export interface TileResult {
 
 const now = () => performance.now();
 
+/**
+ * The model input of a tile held in `scratch`: the first 3·H·W values of its tensor and the dims [1, 3, H, W] — the
+ * window's own size for a dynamic-input model (sized plan), else tilePx × tilePx. Throws when the scratch is too small.
+ */
+export function tileInput(plan: TilePlan, tile: PlannedTile, scratch: TileScratch): { data: Float32Array; dims: [1, 3, number, number] } {
+  const { widthPx, heightPx } = inputSizePx(plan, tile);
+  if (widthPx > scratch.tilePx || heightPx > scratch.tilePx) {
+    throw new Error(`scratch holds inputs up to ${scratch.tilePx} px, tile ${tile.index} needs ${widthPx} × ${heightPx}`);
+  }
+  return { data: scratch.tensor.subarray(0, 3 * widthPx * heightPx), dims: [1, 3, heightPx, widthPx] };
+}
+
 /** Fill the tensor with the tile's resampled, normalised pixels. Returns false when no pixel is valid. */
 export function fillTensor(p: ScenePipeline, tile: PlannedTile, win: RasterWindow, scratch: TileScratch): boolean {
-  const T = scratch.tilePx;
-  const plane = T * T;
+  const input = tileInput(p.plan, tile, scratch);
+  const T = input.dims[3], TH = input.dims[2]; // input width (row length) and height
+  const plane = T * TH;
   const wm = tile.windowModelPx;
   const ow = wm.maxXPx - wm.minXPx, oh = wm.maxYPx - wm.minYPx;
   const f = 1 / p.plan.scale;
   const rp = planResample(wm, win.windowPx, { scenePxPerModelPxX: f, scenePxPerModelPxY: f }, p.plan.sceneWidthPx, p.plan.sceneHeightPx);
-  const dense = ow === T && oh === T;
-  const { tensor, valid } = scratch;
+  const dense = ow === T && oh === TH;
+  const tensor = input.data, valid = scratch.valid.subarray(0, plane);
   const idx = p.bands.indices;
   if (dense && isContiguousUnit(rp)) {
     const src = [win.bands[idx[0]], win.bands[idx[1]], win.bands[idx[2]]];
@@ -216,19 +246,34 @@ export async function readTile(p: ScenePipeline, tile: PlannedTile, signal?: Abo
   return { win, readMs: now() - t0 };
 }
 
-/** Compute phase of a tile: resample + normalise, infer, decode, core rule, ground frame. */
-export async function processTile(p: ScenePipeline, tile: PlannedTile, read: TileRead, scratch: TileScratch, infer: InferFn, signal?: AbortSignal): Promise<TileResult> {
+/** A tile whose tensor is filled (resampled + normalised into `scratch`), ready to infer. */
+export interface FilledTile {
+  tile: PlannedTile;
+  /** False when the read window was empty or held no valid pixel: inference is skipped. */
+  hasPixels: boolean;
+  scratch: TileScratch;
+  readMs: number;
+  resampleMs: number;
+}
+
+/** Fill phase of a tile: resample + normalise the read pixels into `scratch` (no inference yet). */
+export function fillTile(p: ScenePipeline, tile: PlannedTile, read: TileRead, scratch: TileScratch): FilledTile {
   if (scratch.tilePx !== p.plan.tilePx) throw new Error(`scratch is for ${scratch.tilePx} px tiles, plan uses ${p.plan.tilePx}`);
-  const timings: TileTimings = { readMs: read.readMs, resampleMs: 0, inferMs: 0, decodeMs: 0 };
-  const empty = () => ({ tile, table: createDetectionTable(epsgName(p.frameEpsg), 0), skipped: true, timings });
-  if (!read.win) return empty();
-  let t0 = now();
+  if (!read.win) return { tile, hasPixels: false, scratch, readMs: read.readMs, resampleMs: 0 };
+  const t0 = now();
   const hasPixels = fillTensor(p, tile, read.win, scratch);
-  timings.resampleMs = now() - t0;
-  if (!hasPixels) return empty();
+  return { tile, hasPixels, scratch, readMs: read.readMs, resampleMs: now() - t0 };
+}
+
+/** Inference phase of a filled tile: infer, decode, core rule, ground frame. */
+export async function inferTile(p: ScenePipeline, filled: FilledTile, infer: InferFn, signal?: AbortSignal): Promise<TileResult> {
+  const { tile, scratch } = filled;
+  const timings: TileTimings = { readMs: filled.readMs, resampleMs: filled.resampleMs, inferMs: 0, decodeMs: 0 };
+  if (!filled.hasPixels) return { tile, table: createDetectionTable(epsgName(p.frameEpsg), 0), skipped: true, timings };
   if (signal?.aborted) throw new SeamtallyError('cancelled', 'The run was cancelled.');
-  t0 = now();
-  const outputs = await infer(scratch.tensor, [1, 3, scratch.tilePx, scratch.tilePx]);
+  let t0 = now();
+  const input = tileInput(p.plan, tile, scratch);
+  const outputs = await infer(input.data, input.dims);
   timings.inferMs = now() - t0;
   t0 = now();
   const wm = tile.windowModelPx;
@@ -236,6 +281,11 @@ export async function processTile(p: ScenePipeline, tile: PlannedTile, read: Til
   const table = toGroundFrame(p, keepCoreCentres(dets, tile.corePx));
   timings.decodeMs = now() - t0;
   return { tile, table, skipped: false, timings };
+}
+
+/** Compute phase of a tile: resample + normalise, infer, decode, core rule, ground frame. */
+export async function processTile(p: ScenePipeline, tile: PlannedTile, read: TileRead, scratch: TileScratch, infer: InferFn, signal?: AbortSignal): Promise<TileResult> {
+  return inferTile(p, fillTile(p, tile, read, scratch), infer, signal);
 }
 
 /** Run one tile end to end (read, then process). */
@@ -272,28 +322,35 @@ export interface SceneRunResult {
   elapsedMs: number;
 }
 
-/** Run the tiles of one scene in order, reusing one tensor; reads the next tile while the current one infers. */
+/**
+ * Run the tiles of one scene in order. With `prefetch` (default) tile k+1 is read and filled into a second tensor
+ * while tile k infers: onnxruntime-node runs the session off the JS thread, so reading and filling hide behind
+ * inference there; in a browser worker (inference on the worker's own thread) the order of work is the same.
+ */
 export async function runScene(p: ScenePipeline, infer: InferFn, opts: RunSceneOptions = {}): Promise<SceneRunResult> {
   const tiles = opts.tiles ?? p.plan.tiles;
-  const scratch = opts.scratch ?? createTileScratch(p.plan.tilePx);
+  const prefetch = opts.prefetch ?? true;
+  const first = opts.scratch ?? createTileScratch(p.plan.tilePx);
+  // two tensors when prefetching: tile k+1 is filled while tile k's tensor is still the model's input
+  const scratches = prefetch && tiles.length > 1 ? [first, createTileScratch(p.plan.tilePx)] : [first];
   const totals: TileTimings = { readMs: 0, resampleMs: 0, inferMs: 0, decodeMs: 0 };
   const tables: DetectionTable[] = [];
   const start = now();
   let skipped = 0;
   let scenePxDone = 0;
   const s2 = p.plan.scale * p.plan.scale;
-  const prefetch = opts.prefetch ?? true;
-  let next: Promise<TileRead> | null = tiles.length ? readTile(p, tiles[0], opts.signal) : null;
+  const prepare = (k: number): Promise<FilledTile> => {
+    const f = readTile(p, tiles[k], opts.signal).then((read) => fillTile(p, tiles[k], read, scratches[k % scratches.length]));
+    f.catch(() => undefined); // a failure surfaces when awaited; this keeps it from being reported as unhandled
+    return f;
+  };
+  let next: Promise<FilledTile> | null = tiles.length ? prepare(0) : null;
   for (let k = 0; k < tiles.length; k++) {
     if (opts.signal?.aborted) throw new SeamtallyError('cancelled', 'The run was cancelled.');
-    const read = await next!;
-    next = null;
-    if (prefetch && k + 1 < tiles.length) {
-      next = readTile(p, tiles[k + 1], opts.signal);
-      next.catch(() => undefined); // a failure surfaces when awaited; this keeps it from being reported as unhandled
-    }
-    const r = await processTile(p, tiles[k], read, scratch, infer, opts.signal);
-    if (!prefetch && k + 1 < tiles.length) next = readTile(p, tiles[k + 1], opts.signal);
+    const filled = await next!;
+    next = prefetch && k + 1 < tiles.length ? prepare(k + 1) : null;
+    const r = await inferTile(p, filled, infer, opts.signal);
+    if (!prefetch && k + 1 < tiles.length) next = prepare(k + 1);
     for (const key of Object.keys(totals) as (keyof TileTimings)[]) totals[key] += r.timings[key];
     if (r.skipped) skipped++;
     if (r.table.count) tables.push(r.table);

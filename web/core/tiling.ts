@@ -1,24 +1,31 @@
 // Tiling plan: the scene resampled to the model GSD, cut into tiles whose cores partition it, with overlap from object size.
 import { SeamtallyError } from './errors.ts';
 import type { PixelBox } from './types.ts';
+import { sizedAxisPlan } from './sized-axis.ts';
 
 /**
  * Conventions
  * - Planning happens in MODEL pixels over the scene resampled to the model's GSD: scale = sceneGsdM / modelGsdM,
  *   model x = scene x × scale. The resampled grid is modelWidthPx = ceil(sceneWidthPx × scale) wide (same for
  *   height), so it may reach up to one model pixel past the scene's far edge; that sliver reads as nodata.
- * - Windows are tilePx wide, the fewest per axis that give every core ≥ overlapPx of context inside the scene, with
- *   starts on multiples of alignPx (the network's total downsampling, 32 for the shipped detector): every tiling then
- *   shows the network the same pixel phase, so a car is seen the same way whatever the tile size (a strided CNN is
- *   not shift-invariant: a window moved by a few pixels changes scores near the threshold). Starts are spread evenly
- *   from 0 to the last aligned start (so no thin edge core with a window shifted over its neighbour's); the last
- *   window may reach up to alignPx − 1 model pixels past the scene's far edge, which reads as nodata. Cores are
- *   half-open boxes [min, max) that partition the resampled scene exactly: every model pixel lies in exactly one
- *   core; a core boundary lies in the middle of its two windows' overlap, so each window holds its core grown by
- *   ≥ overlapPx (clipped at scene edges). No core is wider than tilePx − 2·overlapPx inside the scene. Only when the
- *   scene itself is no larger than tilePx along an axis is the window the whole scene along that axis; the pipeline
- *   then pads the model input (right/bottom) to tilePx.
- * - overheadRatio = Σ window pixels / scene pixels, both in model pixels (padding is not counted).
+ * - Square windows (a fixed-input model) are tilePx wide, the fewest per axis that give every core ≥ overlapPx of
+ *   context inside the scene, with starts on multiples of alignPx (the network's total downsampling, 32 for the
+ *   shipped detector): every tiling then shows the network the same pixel phase, so a car is seen the same way
+ *   whatever the tile size (a strided CNN is not shift-invariant: a window moved by a few pixels changes scores near
+ *   the threshold). Starts are spread evenly from 0 to the last aligned start (so no thin edge core with a window
+ *   shifted over its neighbour's); the last window may reach up to alignPx − 1 model pixels past the scene's far
+ *   edge, which reads as nodata. Cores are half-open boxes [min, max) that partition the resampled scene exactly:
+ *   every model pixel lies in exactly one core; a core boundary lies in the middle of its two windows' overlap, so
+ *   each window holds its core grown by ≥ overlapPx (clipped at scene edges). No core is wider than tilePx −
+ *   2·overlapPx inside the scene. Only when the scene itself is no larger than tilePx along an axis is the window the
+ *   whole scene along that axis; the pipeline then pads the model input (right/bottom) to tilePx.
+ * - Sized windows (`sizeStepPx` set: a model with dynamic height and width) are the model input as they are, at most
+ *   tilePx wide or high and a multiple of sizeStepPx (a multiple of alignPx and the output stride), so no window is
+ *   padded and none is wider than it needs to be: along each axis the fewest windows share exactly the aligned
+ *   overlap with their neighbours and split the rest evenly (see `sizedAxisPlan`). Starts stay on multiples of
+ *   alignPx, so the pixel phase the network sees does not change with the tile size.
+ * - overheadRatio = Σ window pixels / scene pixels, both in model pixels (padding is not counted; sized windows have
+ *   none, and their reach past the far scene edge, < sizeStepPx, is counted).
  */
 
 export interface TilePlanInput {
@@ -36,6 +43,12 @@ export interface TilePlanInput {
   readPadPx?: number;
   /** Window starts are multiples of this many model pixels (the network's total stride). Default 1. */
   alignPx?: number;
+  /**
+   * For a model with dynamic input height and width: window widths and heights are multiples of this (a multiple of
+   * alignPx: the lcm of alignPx and the output stride) and at most tilePx, and each window is the model input as it
+   * is (rectangular, unpadded). Absent (a model with a fixed input): every window is tilePx square.
+   */
+  sizeStepPx?: number;
 }
 
 export interface PlannedTile {
@@ -44,7 +57,10 @@ export interface PlannedTile {
   row: number;
   /** The tile's core in model pixels (half-open). A detection belongs to the tile whose core holds its centre. */
   corePx: PixelBox;
-  /** tilePx wide, holding the core grown by ≥ overlapPx (clipped at scene edges), model pixels (half-open). The model's input. */
+  /**
+   * Holds the core grown by ≥ overlapPx (clipped at scene edges), model pixels (half-open). The model's input: tilePx
+   * square (padded when the scene is smaller), or for sized plans this box itself (see `inputSizePx`).
+   */
   windowModelPx: PixelBox;
   /** The same window in scene pixels (exact floats): windowModelPx / scale. */
   windowScenePx: PixelBox;
@@ -65,7 +81,12 @@ export interface TilePlan {
   overlapPx: number;
   /** Window starts are multiples of this (model pixels). */
   alignPx: number;
-  /** Largest interior core width (and largest window spacing): tilePx − 2·overlapPx. */
+  /** Window sizes are multiples of this and each window is the model input (dynamic model); null: tilePx² windows. */
+  sizeStepPx: number | null;
+  /**
+   * Largest interior core width (and largest window spacing): tilePx − 2·overlapPx, or for sized plans the largest
+   * window (tilePx rounded down to sizeStepPx) less the aligned overlap ceil(2·overlapPx / alignPx)·alignPx.
+   */
   coreStepPx: number;
   cols: number;
   rows: number;
@@ -154,11 +175,15 @@ export function planTiles(input: TilePlanInput): TilePlan {
   if (!Number.isInteger(alignPx) || alignPx < 1) {
     throw new SeamtallyError('bad-argument', `The tile alignment must be a whole number of pixels ≥ 1, not ${alignPx}.`);
   }
-  const coreStepPx = tilePx - 2 * overlapPx;
-  if (coreStepPx < alignPx) {
-    throw new SeamtallyError('bad-argument',
-      `An overlap of ${overlapPx} px on each side leaves no core in a ${tilePx} px tile: use a tile larger than ${2 * overlapPx + alignPx} px or a smaller overlap.`);
+  const stepPx = input.sizeStepPx ?? null;
+  if (stepPx !== null && !(Number.isInteger(stepPx) && stepPx >= 1 && stepPx % alignPx === 0)) {
+    throw new SeamtallyError('bad-argument', `The window size step must be a whole multiple of the tile alignment (${alignPx} px), not ${stepPx}.`);
   }
+  const maxWindowPx = stepPx === null ? tilePx : Math.floor(tilePx / stepPx) * stepPx;
+  const coreStepPx = stepPx === null ? tilePx - 2 * overlapPx : maxWindowPx - Math.ceil((2 * overlapPx) / alignPx) * alignPx;
+  const noCore = () => new SeamtallyError('bad-argument',
+    `An overlap of ${overlapPx} px on each side leaves no core in a ${tilePx} px tile: use a tile larger than ${maxWindowPx - coreStepPx + Math.max(alignPx, stepPx ?? 1)} px or a smaller overlap.`);
+  if (coreStepPx < alignPx) throw noCore();
   const scale = sceneGsdM / modelGsdM;
   const modelWidthPx = Math.max(1, Math.ceil(sceneWidthPx * scale - 1e-9));
   const modelHeightPx = Math.max(1, Math.ceil(sceneHeightPx * scale - 1e-9));
@@ -168,8 +193,13 @@ export function planTiles(input: TilePlanInput): TilePlan {
       `Resampled to the model's ${modelGsdM} m GSD this scene would be ${gpx.toFixed(0)} gigapixels (${modelWidthPx} × ${modelHeightPx} px), more than seamtally plans in one go (${MAX_MODEL_PX / 1e9} gigapixels): cut the scene into parts (e.g. gdal_translate -srcwin) or check its GSD${scale > 1 ? ` — it is ${scale.toFixed(1)}× coarser than the model's and would be enlarged` : ''}.`,
       { modelWidthPx, modelHeightPx });
   }
-  const xs = axisPlan(modelWidthPx, tilePx, overlapPx, coreStepPx, alignPx);
-  const ys = axisPlan(modelHeightPx, tilePx, overlapPx, coreStepPx, alignPx);
+  const axis = (extentPx: number) => {
+    if (stepPx === null) return axisPlan(extentPx, tilePx, overlapPx, coreStepPx, alignPx);
+    const sized = sizedAxisPlan(extentPx, maxWindowPx, overlapPx, alignPx, stepPx);
+    if (!sized) throw noCore();
+    return sized;
+  };
+  const xs = axis(modelWidthPx), ys = axis(modelHeightPx);
   const pad = input.readPadPx ?? 1;
   const tiles: PlannedTile[] = [];
   let inferredPx = 0;
@@ -196,7 +226,7 @@ export function planTiles(input: TilePlanInput): TilePlan {
   }
   return {
     sceneWidthPx, sceneHeightPx, sceneGsdM, modelGsdM, scale, modelWidthPx, modelHeightPx, tilePx, overlapPx, alignPx,
-    coreStepPx, cols: xs.n, rows: ys.n, tiles, overheadRatio: inferredPx / (modelWidthPx * modelHeightPx),
+    sizeStepPx: stepPx, coreStepPx, cols: xs.n, rows: ys.n, tiles, overheadRatio: inferredPx / (modelWidthPx * modelHeightPx),
   };
 }
 
@@ -215,6 +245,16 @@ export function subsetOverheadRatio(tiles: readonly PlannedTile[]): number {
   return core > 0 ? win / core : 0;
 }
 
+/**
+ * The model input of a tile, in model pixels: the window itself for sized plans (dynamic-input model), else tilePx
+ * square (the window, padded right/bottom when the scene is smaller than a tile).
+ */
+export function inputSizePx(plan: TilePlan, tile: PlannedTile): { widthPx: number; heightPx: number } {
+  if (plan.sizeStepPx === null) return { widthPx: plan.tilePx, heightPx: plan.tilePx };
+  const w = tile.windowModelPx;
+  return { widthPx: w.maxXPx - w.minXPx, heightPx: w.maxYPx - w.minYPx };
+}
+
 /** Convert a model-pixel position of a plan to scene pixels. */
 export function modelToScenePx(plan: TilePlan, xModelPx: number, yModelPx: number): [number, number] {
   return [xModelPx / plan.scale, yModelPx / plan.scale];
@@ -225,16 +265,21 @@ export interface TileSizeInput extends Omit<TilePlanInput, 'tilePx' | 'readPadPx
   minTilePx: number;
   /** Largest tile the model takes. */
   maxTilePx: number;
-  /** Candidate sizes are minTilePx + k·sizeStepPx (a multiple of the alignment and the output stride). */
+  /**
+   * Candidate sizes are minTilePx + k·sizeStepPx (a multiple of the alignment and the output stride); the candidates
+   * are planned with sized windows in the same step (`TilePlanInput.sizeStepPx`).
+   */
   sizeStepPx: number;
 }
 
 /**
  * The tile size for one scene when the model takes a range of input sizes: the candidate with the fewest pixels
- * inferred in all (Σ tilePx² over the planned windows, padding included, so a small scene is one padded tile rather
- * than many overlapping ones); among candidates within 2 % of that, the smallest (less memory per worker, more tiles
- * to share among workers). Larger tiles spend a smaller share of their pixels on overlap, so on big scenes this
- * lands near maxTilePx.
+ * inferred in all (Σ model-input pixels over the planned windows, as `inputSizePx`), and of equally cheap ones the
+ * smallest. With sized windows the cost depends only on the number of windows per axis (each size giving the same grid
+ * gives the same windows), so this is the grid with the fewest windows, at the smallest size that fits it. A slack
+ * towards smaller sizes (more tiles to share among workers) would cost whole extra windows: for the shipped model
+ * (overlap 2·50 px aligned to 128 px, windows ≤ 1 536 px) the fewest-window plan of a large scene infers about
+ * (1536 / 1408)² ≈ 1.19× its pixels, and one more window per axis would pass 1.2.
  */
 export function chooseTilePx(input: TileSizeInput): number {
   const { minTilePx, maxTilePx, sizeStepPx } = input;
@@ -247,9 +292,11 @@ export function chooseTilePx(input: TileSizeInput): number {
     } catch {
       continue; // the overlap leaves no core in this size
     }
-    costs.push([t, plan.tiles.length * t * t]);
+    let px = 0;
+    for (const tile of plan.tiles) { const d = inputSizePx(plan, tile); px += d.widthPx * d.heightPx; }
+    costs.push([t, px]);
   }
   if (!costs.length) return maxTilePx; // planTiles will explain why no size works
   const best = Math.min(...costs.map((c) => c[1]));
-  return costs.find((c) => c[1] <= best * 1.02)![0];
+  return costs.find((c) => c[1] === best)![0];
 }

@@ -98,6 +98,28 @@ describe('pipeline', () => {
     await src.close();
   });
 
+  it('pipelined runs (tile k+1 filled while tile k infers) give what serial runs give, with a detector that reads its input late', async () => {
+    // self-consistency: onnxruntime-node reads the input tensor on its own thread while the JS thread fills the next
+    // tile, so this detector first yields, then reads: one shared tensor would hand it the next tile's pixels
+    const src = await open(path33);
+    const p = await prepareScene(src, 0, sidecar, { overlapPx: 4 });
+    expect(p.plan.tiles.length).toBeGreaterThan(2);
+    const sums = (seen: number[][]): InferFn => async (input, dims) => {
+      await new Promise((r) => setTimeout(r, 5));
+      let s = 0;
+      for (let i = 0; i < input.length; i++) s += input[i] * ((i % 97) + 1);
+      seen.push([s]);
+      return fakeInfer(input, dims);
+    };
+    const serial: number[][] = [], piped: number[][] = [];
+    const a = await runScene(p, sums(serial), { prefetch: false });
+    const b = await runScene(p, sums(piped), { prefetch: true });
+    expect(piped).toEqual(serial);
+    expect(new Set(serial.map((x) => x[0])).size).toBe(serial.length); // the tiles do differ
+    expect(b.tables.map((t) => Array.from(t.cxM.subarray(0, t.count)))).toEqual(a.tables.map((t) => Array.from(t.cxM.subarray(0, t.count))));
+    await src.close();
+  });
+
   it('stops with a typed "cancelled" error when the signal is aborted', async () => {
     const src = await open(path33);
     const p = await prepareScene(src, 0, sidecar, { overlapPx: 4 });

@@ -177,30 +177,37 @@ describe('planTiles', () => {
 
 describe('chooseTilePx', () => {
   const base = { sceneGsdM: 0.3, modelGsdM: 0.3, maxObjectExtentM: 25, alignPx: 32, minTilePx: 512, maxTilePx: 1536, sizeStepPx: 32 };
-  const cost = (w: number, h: number, t: number) => { const p = planTiles({ ...base, sceneWidthPx: w, sceneHeightPx: h, tilePx: t }); return p.tiles.length * t * t; };
+  // the cost chooseTilePx minimises: model-input pixels of the sized plan (windows as they are, no padding)
+  const cost = (w: number, h: number, t: number) => {
+    const p = planTiles({ ...base, sceneWidthPx: w, sceneHeightPx: h, tilePx: t });
+    return p.tiles.reduce((s, k) => s + (k.windowModelPx.maxXPx - k.windowModelPx.minXPx) * (k.windowModelPx.maxYPx - k.windowModelPx.minYPx), 0);
+  };
 
-  it('picks the candidate inferring the fewest pixels (within 2 %, the smallest), checked by brute force', () => {
-    for (const [w, h] of [[4000, 4000], [16000, 16000], [2500, 900], [7001, 3333]]) {
+  it('picks the candidate inferring the fewest pixels (the smallest of equally cheap ones), checked by brute force', () => {
+    for (const [w, h] of [[4000, 4000], [16000, 16000], [2500, 900], [7001, 3333], [12000, 5000]]) {
       const t = chooseTilePx({ ...base, sceneWidthPx: w, sceneHeightPx: h });
       const all: number[] = [];
       for (let c = 512; c <= 1536; c += 32) all.push(cost(w, h, c));
       const best = Math.min(...all);
-      expect(cost(w, h, t)).toBeLessThanOrEqual(best * 1.02);
+      expect(cost(w, h, t)).toBe(best);
       expect(cost(w, h, t)).toBeLessThan(cost(w, h, 512)); // larger tiles than the nominal 512 pay off on these scenes
-      for (let c = 512; c < t; c += 32) expect(cost(w, h, c)).toBeGreaterThan(best * 1.02);
+      for (let c = 512; c < t; c += 32) expect(cost(w, h, c)).toBeGreaterThan(best);
     }
   });
 
-  it('a scene smaller than the largest tile becomes one padded tile, not several overlapping ones', () => {
+  it('a scene smaller than the largest tile becomes one window of its own size (rounded up to 32 px), not several', () => {
     const t = chooseTilePx({ ...base, sceneWidthPx: 1000, sceneHeightPx: 800 });
     expect(t).toBe(1024);
-    expect(planTiles({ ...base, sceneWidthPx: 1000, sceneHeightPx: 800, tilePx: t }).tiles.length).toBe(1);
+    const plan = planTiles({ ...base, sceneWidthPx: 1000, sceneHeightPx: 800, tilePx: t });
+    expect(plan.tiles.length).toBe(1);
+    expect(plan.tiles[0].windowModelPx).toEqual({ minXPx: 0, minYPx: 0, maxXPx: 1024, maxYPx: 800 });
   });
 
-  it('keeps the overlap overhead of a 4000² scene with a 25 m object extent under 1.2 (the nominal 512 px tile gives ~2)', () => {
+  it('keeps the overlap overhead of a 4000² scene with a 25 m object extent under 1.2 (the nominal 512 px tile gives 1.74)', () => {
     const t = chooseTilePx({ ...base, sceneWidthPx: 4000, sceneHeightPx: 4000 });
     const plan = planTiles({ ...base, sceneWidthPx: 4000, sceneHeightPx: 4000, tilePx: t });
     console.log(`4000² at 0.3 m, overlap ${plan.overlapPx} px: tile ${t}, ${plan.tiles.length} tiles, overhead ${plan.overheadRatio.toFixed(3)}`);
     expect(plan.overheadRatio).toBeLessThan(1.2);
+    expect(planTiles({ ...base, sceneWidthPx: 4000, sceneHeightPx: 4000, tilePx: 512 }).overheadRatio).toBeCloseTo((165 / 125) ** 2, 9); // 11 windows of ≤ 16 · 32 px sharing 4 · 32 px
   });
 });
