@@ -1,5 +1,5 @@
-// Class-aware greedy NMS and Soft-NMS over oriented boxes; candidates from candidate-index.ts (grids + rbush).
-import { CandidateIndex, type BoxColumns } from './candidate-index.ts';
+// Class-aware greedy NMS and Soft-NMS over oriented boxes; candidate pairs from candidate-index.ts (grids + rbush).
+import { neighbourLists, type BoxColumns } from './candidate-index.ts';
 import { rotatedIoUFlat } from './oriented-box.ts';
 
 /** Box columns NMS reads; a `DetectionTable` satisfies it. Units are whatever the frame uses (metres on the ground). */
@@ -15,7 +15,7 @@ export interface NmsOptions {
   scoreThreshold?: number;
   /** Compare boxes of different classes too. Default false (class-aware). */
   classAgnostic?: boolean;
-  /** Put every box in the rbush R-tree instead of the uniform grid (same result; for tests). Default false. */
+  /** Put every box in the rbush R-tree instead of the uniform grids (same result; for tests). Default false. */
   forceTree?: boolean;
 }
 
@@ -39,25 +39,55 @@ export interface SoftNmsResult {
   score: Float32Array;
 }
 
-/** Rows sorted by score descending; ties keep the smaller row index first (as onnxruntime's NonMaxSuppression). */
-function orderByScore(cols: NmsBoxColumns, scoreThreshold: number): Uint32Array {
+/**
+ * Rows with score > `scoreThreshold`, sorted by score descending; ties keep the smaller row index first (as
+ * onnxruntime's NonMaxSuppression). Float32 scores (every DetectionTable) take a radix sort, others a comparator.
+ */
+export function orderByScore(cols: NmsBoxColumns, scoreThreshold: number): Uint32Array {
+  const n = cols.count, s = cols.score;
+  const rows = new Uint32Array(n);
   let m = 0;
-  const idx = new Uint32Array(cols.count);
-  for (let i = 0; i < cols.count; i++) if (cols.score[i] > scoreThreshold) idx[m++] = i;
-  const s = cols.score;
-  if (!(s instanceof Float32Array) || cols.count > 1 << 21) return idx.slice(0, m).sort((a, b) => s[b] - s[a] || a - b);
-  // Fast path: one Float64 key per row = (descending order-preserving float32 bits) · 2^21 + row, sorted natively.
-  const bits = new Uint32Array(s.buffer, s.byteOffset, s.length);
-  const keys = new Float64Array(m);
-  for (let k = 0; k < m; k++) {
-    const i = idx[k], b = bits[i];
-    const asc = b & 0x80000000 ? ~b >>> 0 : (b | 0x80000000) >>> 0; // unsigned order = float order
-    keys[k] = (0xffffffff - asc) * 2097152 + i;
+  if (!(s instanceof Float32Array)) {
+    for (let i = 0; i < n; i++) if (s[i] > scoreThreshold) rows[m++] = i;
+    return rows.slice(0, m).sort((a, b) => s[b] - s[a] || a - b);
   }
-  keys.sort();
-  const out = new Uint32Array(m);
-  for (let k = 0; k < m; k++) out[k] = keys[k] % 2097152;
-  return out;
+  // One 32-bit key per row whose unsigned order is the score's descending order: a positive float's bits grow with
+  // it (flip them), a negative float's bits grow as it falls (keep them); −0 counts as +0, as in `s[b] − s[a]`.
+  const bits = new Uint32Array(s.buffer, s.byteOffset, n);
+  const key = new Uint32Array(n);
+  for (let i = 0; i < n; i++) {
+    if (!(s[i] > scoreThreshold)) continue; // also drops NaN
+    const b = bits[i] === 0x80000000 ? 0 : bits[i];
+    key[m] = (b ^ ((~b >> 31) & 0x7fffffff)) >>> 0;
+    rows[m++] = i;
+  }
+  return radixSortByKey(key.subarray(0, m), rows.subarray(0, m));
+}
+
+/**
+ * Stable LSD radix sort of `rows` by unsigned 32-bit `key` (ascending), three passes of 11 bits; both arrays are
+ * used as scratch. Rows arrive in ascending order, so equal keys keep the smaller row first.
+ */
+function radixSortByKey(key: Uint32Array, rows: Uint32Array): Uint32Array {
+  const m = rows.length;
+  const hist = new Uint32Array(3 * 2048);
+  for (let p = 0; p < m; p++) {
+    const k = key[p];
+    hist[k & 2047]++; hist[2048 + ((k >>> 11) & 2047)]++; hist[4096 + (k >>> 22)]++;
+  }
+  let k1: Uint32Array = key, r1: Uint32Array = rows, k2: Uint32Array = new Uint32Array(m), r2: Uint32Array = new Uint32Array(m);
+  for (let pass = 0, shift = 0; pass < 3; pass++, shift += 11) {
+    const h = hist.subarray(2048 * pass, 2048 * (pass + 1));
+    if (m === 0 || h[(k1[0] >>> shift) & 2047] === m) continue; // every key has this digit: nothing moves
+    for (let d = 0, sum = 0; d < 2048; d++) { const c = h[d]; h[d] = sum; sum += c; }
+    for (let p = 0; p < m; p++) {
+      const k = k1[p], at = h[(k >>> shift) & 2047]++;
+      k2[at] = k; r2[at] = r1[p];
+    }
+    const tk = k1; k1 = k2; k2 = tk;
+    const tr = r1; r1 = r2; r2 = tr;
+  }
+  return r1;
 }
 
 function iouOf(c: NmsBoxColumns, i: number, j: number): number {
@@ -73,34 +103,41 @@ function checkColumns(cols: NmsBoxColumns): void {
   }
 }
 
+/** Row states of the greedy pass (bits). */
+const HAS_NEIGHBOURS = 1, DONE = 2, SUPPRESSED = 4;
+
 /**
  * Greedy NMS: repeatedly keep the highest-scoring remaining box and suppress every remaining box of the same class
  * whose IoU with it exceeds `iouThreshold`. Returns kept row indices sorted by score descending.
- * Cost: one index query per box (in spatial order): O(n log n) (the sort) when each box overlaps a bounded number of others.
+ * Cost: linear (a radix sort, grids, neighbour lists) when each box overlaps a bounded number of others.
  */
 export function greedyNms(cols: NmsBoxColumns, opts: NmsOptions = {}): Uint32Array {
   checkColumns(cols);
   const iouThreshold = opts.iouThreshold ?? 0.5;
-  const order = orderByScore(cols, opts.scoreThreshold ?? -Infinity);
+  const scoreThreshold = opts.scoreThreshold ?? -Infinity;
+  const order = orderByScore(cols, scoreThreshold);
   // The index is built over the rows in table order (tiles arrive as runs of nearby rows), not in score order.
-  const index = new CandidateIndex(cols, order.slice().sort(), { forceTree: opts.forceTree });
-  // Candidate pairs first, in spatial order; then the greedy pass in score order only walks short neighbour lists
-  // (querying the index in score order jumps all over memory: most of the time of a 1 000 000-box merge).
-  const nb = index.neighbourLists(cols.count, opts.classAgnostic ? null : cols.classIdx);
-  const suppressed = new Uint8Array(cols.count);
-  const rank = new Uint32Array(cols.count);
-  for (let k = 0; k < order.length; k++) rank[order[k]] = k;
+  const rows = new Uint32Array(order.length);
+  for (let i = 0, m = 0; i < cols.count; i++) if (cols.score[i] > scoreThreshold) rows[m++] = i;
+  // Candidate pairs first, in spatial order; then the greedy pass in score order only walks the neighbour lists of
+  // rows that have any (querying an index in score order jumps all over memory).
+  const nb = neighbourLists(cols, rows, opts.classAgnostic ? null : cols.classIdx, { forceTree: opts.forceTree });
+  const { start, nbr } = nb;
+  const state = new Uint8Array(cols.count);
+  for (let i = 0; i < cols.count; i++) if (start[i + 1] > start[i]) state[i] = HAS_NEIGHBOURS;
   const keep = new Uint32Array(order.length);
   let nKeep = 0;
   for (let k = 0; k < order.length; k++) {
-    const i = order[k];
-    if (suppressed[i]) continue;
+    const i = order[k], st = state[i];
+    if (st & SUPPRESSED) continue;
     keep[nKeep++] = i;
-    for (let h = nb.start[i], e = nb.start[i + 1]; h < e; h++) {
-      const j = nb.nbr[h];
-      if (suppressed[j] || rank[j] <= k) continue;
-      if (!opts.classAgnostic && cols.classIdx[j] !== cols.classIdx[i]) continue;
-      if (iouOf(cols, i, j) > iouThreshold) suppressed[j] = 1;
+    if (!(st & HAS_NEIGHBOURS)) continue;
+    state[i] = st | DONE;
+    // Lists hold same-class rows only (unless class-agnostic); rows DONE or SUPPRESSED were handled before i.
+    for (let h = start[i], e = start[i + 1]; h < e; h++) {
+      const j = nbr[h];
+      if (state[j] & (DONE | SUPPRESSED)) continue;
+      if (iouOf(cols, i, j) > iouThreshold) state[j] |= SUPPRESSED;
     }
   }
   return keep.slice(0, nKeep);
@@ -168,7 +205,7 @@ export function softNms(cols: NmsBoxColumns, opts: SoftNmsOptions = {}): SoftNms
   const minScore = opts.scoreThreshold ?? 0.001;
   if (!(sigma > 0)) throw new RangeError(`Soft-NMS sigma must be > 0, got ${sigma}.`);
   const all = orderByScore(cols, -Infinity);
-  const index = new CandidateIndex(cols, all, { forceTree: opts.forceTree });
+  const nb = neighbourLists(cols, all.slice().sort(), opts.classAgnostic ? null : cols.classIdx, { forceTree: opts.forceTree });
   const cur = new Float64Array(cols.count);
   const done = new Uint8Array(cols.count);
   const heap = new ScoreHeap(all.length);
@@ -181,11 +218,9 @@ export function softNms(cols: NmsBoxColumns, opts: SoftNmsOptions = {}): SoftNms
     if (done[i] || top[0] !== cur[i]) continue; // stale entry
     done[i] = 1;
     keepRows.push(i); keepScores.push(cur[i]);
-    const count = index.query(i), rows = index.hits;
-    for (let h = 0; h < count; h++) {
-      const j = rows[h];
-      if (j === i || done[j] || cur[j] < minScore) continue;
-      if (!opts.classAgnostic && cols.classIdx[j] !== cols.classIdx[i]) continue;
+    for (let h = nb.start[i], e = nb.start[i + 1]; h < e; h++) {
+      const j = nb.nbr[h]; // same class unless class-agnostic
+      if (done[j] || cur[j] < minScore) continue;
       const iou = iouOf(cols, i, j);
       if (iou <= 0) continue;
       const w = method === 'gaussian' ? Math.exp(-(iou * iou) / sigma) : iou > nt ? 1 - iou : 1;

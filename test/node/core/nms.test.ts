@@ -1,10 +1,11 @@
 // NMS checked against the ONNX NonMaxSuppression operator: the spec's reference cases and onnxruntime-node's own op.
 import { describe, it, expect, beforeAll } from 'vitest';
 import * as ort from 'onnxruntime-node';
-import { greedyNms, softNms, type NmsBoxColumns } from '../../../web/core/nms.ts';
+import { greedyNms, softNms, orderByScore, type NmsBoxColumns } from '../../../web/core/nms.ts';
 import { nmsModelBytes } from './onnx-nms-model.ts';
 import { rotatedIoU } from '../../../web/core/oriented-box.ts';
 import { mulberry32 } from '../../helpers/mulberry32.ts';
+import { randomBoxes } from '../../helpers/random-boxes.ts';
 
 /** ONNX corner boxes [y1, x1, y2, x2] (center_point_box = 0, either diagonal) → NMS columns, one class. */
 function fromOnnxCorners(boxes: number[][], scores: number[], classIdx?: number[]): NmsBoxColumns {
@@ -198,5 +199,135 @@ describe('greedyNms scale', () => {
     // Every pair collapses to one unless two random objects happen to overlap (rare at this density).
     expect(keep.length).toBeGreaterThan(0.49 * n);
     expect(keep.length).toBeLessThanOrEqual(n / 2);
+  });
+});
+
+// ---------------------------------------------------------------------------------------------------------------
+// The indexed NMS against straightforward O(n²) versions of the same definitions (no index, a comparator sort).
+
+/** IoU of rows i (the kept box) and j, as the NMS calls it. */
+function iouRows(c: NmsBoxColumns, i: number, j: number): number {
+  return rotatedIoU(
+    { cxM: c.cxM[i], cyM: c.cyM[i], lengthM: c.lengthM[i], widthM: c.widthM[i], angleRad: c.angleRad[i] },
+    { cxM: c.cxM[j], cyM: c.cyM[j], lengthM: c.lengthM[j], widthM: c.widthM[j], angleRad: c.angleRad[j] });
+}
+
+/** Boxes whose circumscribed circles lie clearly apart cannot intersect (keeps the references fast, not clever). */
+function apart(c: NmsBoxColumns, i: number, j: number): boolean {
+  const ri = Math.hypot(c.lengthM[i], c.widthM[i]) / 2, rj = Math.hypot(c.lengthM[j], c.widthM[j]) / 2;
+  return Math.hypot(c.cxM[i] - c.cxM[j], c.cyM[i] - c.cyM[j]) > (ri + rj) * (1 + 1e-9) + 1e-9;
+}
+
+function referenceOrder(c: NmsBoxColumns, scoreThr: number): number[] {
+  return Array.from({ length: c.count }, (_, i) => i).filter((i) => c.score[i] > scoreThr).sort((a, b) => c.score[b] - c.score[a] || a - b);
+}
+
+function referenceGreedy(c: NmsBoxColumns, thr: number, scoreThr = -Infinity, agnostic = false): number[] {
+  const order = referenceOrder(c, scoreThr);
+  const dead = new Uint8Array(c.count);
+  const keep: number[] = [];
+  for (let p = 0; p < order.length; p++) {
+    const i = order[p];
+    if (dead[i]) continue;
+    keep.push(i);
+    for (let q = p + 1; q < order.length; q++) {
+      const j = order[q];
+      if (dead[j] || (!agnostic && c.classIdx[j] !== c.classIdx[i]) || apart(c, i, j)) continue;
+      if (iouRows(c, i, j) > thr) dead[j] = 1;
+    }
+  }
+  return keep;
+}
+
+function referenceSoft(c: NmsBoxColumns, method: 'gaussian' | 'linear', sigma: number, nt: number, minScore: number): { keep: number[]; score: number[] } {
+  const cur = Float64Array.from({ length: c.count }, (_, i) => c.score[i]);
+  const done = new Uint8Array(c.count);
+  const keep: number[] = [], score: number[] = [];
+  for (;;) {
+    let i = -1;
+    for (let j = 0; j < c.count; j++) if (!done[j] && cur[j] >= minScore && (i < 0 || cur[j] > cur[i])) i = j;
+    if (i < 0) return { keep, score };
+    done[i] = 1; keep.push(i); score.push(cur[i]);
+    for (let j = 0; j < c.count; j++) {
+      if (done[j] || cur[j] < minScore || c.classIdx[j] !== c.classIdx[i] || apart(c, i, j)) continue;
+      const iou = iouRows(c, i, j);
+      if (iou <= 0) continue;
+      const w = method === 'gaussian' ? Math.exp(-(iou * iou) / sigma) : iou > nt ? 1 - iou : 1;
+      if (w !== 1) cur[j] *= w;
+    }
+  }
+}
+
+describe('greedyNms equals a straightforward O(n²) greedy NMS', () => {
+  const sets = [randomBoxes(1, 3000), randomBoxes(2, 3000, 120), randomBoxes(3, 2000, 40)];
+  it('the random sets are hard: many suppressions, ties, pairs on the threshold, both classes', () => {
+    const c = sets[0];
+    const scores = new Set(Array.from(c.score.subarray(0, c.count)));
+    expect(scores.size).toBeLessThan(0.75 * c.count); // many tied scores
+    expect(new Set(c.classIdx.subarray(0, c.count)).size).toBe(2);
+    const keep = referenceGreedy(c, 0.5);
+    expect(keep.length).toBeLessThan(0.8 * c.count);
+    expect(keep.length).toBeGreaterThan(0.3 * c.count);
+    let onThreshold = 0, nearThreshold = 0;
+    for (let i = 0; i + 1 < c.count; i++) {
+      const iou = iouRows(c, i, i + 1);
+      if (iou === 0.5) onThreshold++; else if (Math.abs(iou - 0.5) < 1e-6) nearThreshold++;
+    }
+    expect(onThreshold).toBeGreaterThan(10);
+    expect(nearThreshold).toBeGreaterThan(10);
+  });
+  for (const [k, c] of sets.entries()) {
+    for (const thr of [0, 0.3, 0.5, 0.7]) {
+      it(`set ${k}, IoU ${thr}: same rows in the same order (grid, R-tree; float32 and float64 scores)`, () => {
+        const ref = referenceGreedy(c, thr);
+        expect(Array.from(greedyNms(c, { iouThreshold: thr }))).toEqual(ref);
+        expect(Array.from(greedyNms(c, { iouThreshold: thr, forceTree: true }))).toEqual(ref);
+        expect(Array.from(greedyNms({ ...c, score: Float64Array.from(c.score) }, { iouThreshold: thr }))).toEqual(ref);
+      });
+    }
+    it(`set ${k}: score threshold and class-agnostic variants`, () => {
+      expect(Array.from(greedyNms(c, { iouThreshold: 0.5, scoreThreshold: 0.5 }))).toEqual(referenceGreedy(c, 0.5, 0.5));
+      expect(Array.from(greedyNms(c, { iouThreshold: 0.5, scoreThreshold: 0 }))).toEqual(referenceGreedy(c, 0.5, 0));
+      expect(Array.from(greedyNms(c, { iouThreshold: 0.4, classAgnostic: true }))).toEqual(referenceGreedy(c, 0.4, -Infinity, true));
+    });
+  }
+  it('boxes with non-finite sizes or coordinates suppress nothing and are kept', () => {
+    const c = randomBoxes(4, 600, 60);
+    c.lengthM[10] = NaN; c.widthM[20] = Infinity; c.cxM[30] = NaN; c.score[10] = c.score[20] = c.score[30] = 0.99;
+    const keep = Array.from(greedyNms(c, { iouThreshold: 0.5 }));
+    expect(keep).toEqual(referenceGreedy(c, 0.5));
+    expect(keep).toEqual(expect.arrayContaining([10, 20, 30]));
+  });
+});
+
+describe('softNms equals a straightforward O(n²) Soft-NMS', () => {
+  const c = randomBoxes(5, 700, 80);
+  for (const [method, nt] of [['gaussian', 0.3], ['linear', 0.3], ['linear', 0.5]] as const) {
+    it(`${method}${method === 'linear' ? ` N_t ${nt}` : ''}: same rows, same order, same decayed scores`, () => {
+      const ref = referenceSoft(c, method, 0.5, nt, 0.05);
+      for (const forceTree of [false, true]) {
+        const r = softNms(c, { method, iouThreshold: nt, scoreThreshold: 0.05, forceTree });
+        expect(Array.from(r.keep)).toEqual(ref.keep);
+        expect(Array.from(r.score)).toEqual(Array.from(Float32Array.from(ref.score)));
+      }
+      expect(ref.score.filter((s, k) => s !== c.score[ref.keep[k]]).length).toBeGreaterThan(50); // decays happened
+    });
+  }
+});
+
+describe('orderByScore', () => {
+  it('radix order of float32 scores = comparator order (ties by row; ±0 tie; ±Infinity; NaN dropped)', () => {
+    const rnd = mulberry32(11);
+    const n = 20_000;
+    const s = new Float32Array(n);
+    for (let i = 0; i < n; i++) {
+      const u = rnd();
+      s[i] = u < 0.05 ? -0 : u < 0.1 ? 0 : u < 0.11 ? Infinity : u < 0.12 ? -Infinity : u < 0.13 ? NaN : u < 0.5 ? Math.round(rnd() * 40) / 8 - 1 : (rnd() - 0.3) * 1e6 * rnd() ** 8;
+    }
+    const cols = { ...randomBoxes(1, n), count: n, score: s };
+    for (const thr of [-Infinity, -0.5, 0, 0.25]) {
+      const ref = Array.from({ length: n }, (_, i) => i).filter((i) => s[i] > thr).sort((a, b) => s[b] - s[a] || a - b);
+      expect(Array.from(orderByScore(cols, thr))).toEqual(ref);
+    }
   });
 });

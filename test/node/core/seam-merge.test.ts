@@ -1,7 +1,9 @@
 // Seam merging: objects on seams and tile corners are kept exactly once, and overlapping scenes count each object once.
 import { describe, it, expect } from 'vitest';
 import { planTiles, type TilePlan } from '../../../web/core/tiling.ts';
-import { keepCoreCentres, mergeDetectionTables, concatDetectionTables } from '../../../web/core/seam-merge.ts';
+import { keepCoreCentres, mergeDetectionTables, concatDetectionTables, selectRows, DEFAULT_MERGE_IOU } from '../../../web/core/seam-merge.ts';
+import { greedyNms } from '../../../web/core/nms.ts';
+import { mulberry32 } from '../../helpers/mulberry32.ts';
 import type { PixelDetections } from '../../../web/core/decode-outputs.ts';
 import { createDetectionTable, type DetectionTable } from '../../../web/core/types.ts';
 
@@ -140,5 +142,53 @@ describe('two overlapping scenes of one date', () => {
     const m = mergeDetectionTables([t], { soft: { method: 'gaussian', scoreThreshold: 0.5 } });
     expect(m.count).toBe(2); // the near-duplicate decays to 0.8·exp(−IoU²/0.5) ≈ 0.25 and drops out
     expect(Array.from(m.cxM.subarray(0, 2))).toEqual([0, 50]);
+  });
+});
+
+describe('selectRows and the merge on many rows', () => {
+  function randomTable(n: number, seedValue: number): DetectionTable {
+    const r = mulberry32(seedValue);
+    const t = createDetectionTable('EPSG:32633', n);
+    for (let i = 0; i < n; i++) {
+      t.cxM[i] = 500000 + r() * 3000; t.cyM[i] = 4000000 + r() * 3000; t.lengthM[i] = 3.5 + r() * 2; t.widthM[i] = 1.6 + r() * 0.5;
+      t.angleRad[i] = r() * Math.PI; t.score[i] = Math.ceil(r() * 32) / 32; t.classIdx[i] = r() < 0.9 ? 0 : 1; t.sceneIdx[i] = Math.floor(r() * 3);
+    }
+    t.count = n;
+    return t;
+  }
+  const columns = ['cxM', 'cyM', 'lengthM', 'widthM', 'angleRad', 'score', 'classIdx', 'sceneIdx'] as const;
+
+  it('selectRows copies each requested row (any order, repeats, across many source blocks)', () => {
+    const t = randomTable(150_000, 3);
+    const r = mulberry32(4);
+    const rows = Uint32Array.from({ length: 90_000 }, (_, k) => (k % 7 === 0 ? 149_999 - k : Math.floor(r() * t.count)));
+    const s = selectRows(t, rows);
+    expect(s.count).toBe(rows.length);
+    expect(s.frameCrs).toBe(t.frameCrs);
+    for (const col of columns) {
+      let bad = 0;
+      for (let k = 0; k < rows.length; k++) if (s[col][k] !== t[col][rows[k]]) bad++;
+      expect(bad, col).toBe(0);
+    }
+  });
+
+  it('mergeDetectionTables = concatenation, greedy NMS of the reference, then those rows', () => {
+    // Duplicates: every fourth row is a shifted copy of the row before it, in another table (a seam).
+    const base = randomTable(40_000, 5);
+    for (let i = 3; i < base.count; i += 4) {
+      base.cxM[i] = base.cxM[i - 1] + 0.2; base.cyM[i] = base.cyM[i - 1]; base.lengthM[i] = base.lengthM[i - 1];
+      base.widthM[i] = base.widthM[i - 1]; base.angleRad[i] = base.angleRad[i - 1]; base.classIdx[i] = base.classIdx[i - 1];
+    }
+    const tables = [0, 1, 2, 3].map((part) => selectRows(base, Uint32Array.from({ length: 10_000 }, (_, k) => 4 * k + part)));
+    const all = concatDetectionTables(tables);
+    const keep = greedyNms(all, { iouThreshold: DEFAULT_MERGE_IOU });
+    const merged = mergeDetectionTables(tables);
+    expect(merged.count).toBe(keep.length);
+    expect(merged.count).toBeLessThan(0.8 * all.count);
+    for (const col of columns) {
+      let bad = 0;
+      for (let k = 0; k < keep.length; k++) if (merged[col][k] !== all[col][keep[k]]) bad++;
+      expect(bad, col).toBe(0);
+    }
   });
 });
