@@ -324,8 +324,9 @@ export interface SceneRunResult {
 
 /**
  * Run the tiles of one scene in order. With `prefetch` (default) tile k+1 is read and filled into a second tensor
- * while tile k infers: onnxruntime-node runs the session off the JS thread, so reading and filling hide behind
- * inference there; in a browser worker (inference on the worker's own thread) the order of work is the same.
+ * while tile k infers: the CLI's onnxruntime-node session runs on a thread of its own (web/io/ort-node.ts), so
+ * reading and filling hide behind inference there; in a browser worker (wasm inference on the worker's own thread)
+ * the order of work is the same and nothing overlaps.
  */
 export async function runScene(p: ScenePipeline, infer: InferFn, opts: RunSceneOptions = {}): Promise<SceneRunResult> {
   const tiles = opts.tiles ?? p.plan.tiles;

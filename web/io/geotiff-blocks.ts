@@ -7,6 +7,7 @@ import { getDecoder, type BaseDecoder, type GeoTIFFImage } from 'geotiff';
 import { allocSamples, SAMPLE_ARRAY, type SampleArray, type SampleDtype } from '../core/scene-source.ts';
 import { inflateBounded } from './inflate.ts';
 import { predictorSupported, undoPredictor } from './tiff-predictor.ts';
+import { unpackChunky, unpackPlanar } from './unpack-block.ts';
 
 type Decoder = Awaited<ReturnType<typeof getDecoder>>;
 const FAST_COMPRESSIONS = new Set([1, 5, 8, 32946]);
@@ -37,9 +38,15 @@ export async function fastBlockReader(img: GeoTIFFImage, dtype: SampleDtype, ban
   const rowPx = tiled ? tw : img.getWidth();
   // the decoder of file block row `ty`: DEFLATE (bounded, with its rows' size) per block, every other one shared
   let blockDecoder: (ty: number, signal?: AbortSignal) => Decoder;
+  // DEFLATE, interleaved unsigned 8/16-bit samples with Predictor 2: the predictor is undone while de-interleaving
+  // (one pass over the block), not by the decoder
+  const fusedPredictor = DEFLATE_COMPRESSIONS.has(compression) && predictor === 2 && planar !== 2
+    && (bits === 8 || bits === 16) && img.getSampleFormat(0) === 1;
+  const accMask = fusedPredictor ? (bits === 8 ? 0xff : 0xffff) : 0;
   if (DEFLATE_COMPRESSIONS.has(compression) && predictorSupported(predictor, bits / 8)) {
     const pixelSamples = planar === 2 ? 1 : spp;
-    blockDecoder = (ty, signal) => deflateBlockDecoder(rowPx, th, img.getBlockHeight(ty), pixelSamples, bits / 8, predictor, signal) as unknown as Decoder;
+    const decoderPredictor = fusedPredictor ? 1 : predictor;
+    blockDecoder = (ty, signal) => deflateBlockDecoder(rowPx, th, img.getBlockHeight(ty), pixelSamples, bits / 8, decoderPredictor, signal) as unknown as Decoder;
   } else {
     const decoder = await getDecoder(compression, {
       tileWidth: rowPx,
@@ -68,16 +75,14 @@ export async function fastBlockReader(img: GeoTIFFImage, dtype: SampleDtype, ban
               const rowLen = tiled ? tw : img.getWidth();
               const cx0 = Math.max(x0, bx0), cx1 = Math.min(x1, bx0 + rowLen);
               const cy0 = Math.max(y0, by0), cy1 = Math.min(y1, by0 + img.getBlockHeight(ty));
-              const stride = planar === 2 ? 1 : spp;
-              const bandsHere = planar === 2 ? [sample] : out.map((_, b) => b);
-              for (const b of bandsHere) {
-                const dst = out[b];
-                const off = planar === 2 ? 0 : b;
-                for (let y = cy0; y < cy1; y++) {
-                  let s = ((y - by0) * rowLen + (cx0 - bx0)) * stride + off;
-                  let d = (y - y0) * w + (cx0 - x0);
-                  for (let x = cx0; x < cx1; x++, s += stride) dst[d++] = src[s];
-                }
+              const region = {
+                rowLenPx: rowLen, colPx0: cx0 - bx0, colPx1: cx1 - bx0, rowPx0: cy0 - by0, rowPx1: cy1 - by0,
+                dstWidthPx: w, dstXPx: cx0 - x0, dstYPx: cy0 - y0,
+              };
+              if (planar === 2) {
+                if (sample < out.length) unpackPlanar(src, out[sample], region);
+              } else {
+                unpackChunky(src, spp, out, region, accMask);
               }
             }));
           }

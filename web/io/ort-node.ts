@@ -1,4 +1,7 @@
 // onnxruntime-node adapter for the CLI: loads a model + sidecar, checks them against each other, returns an InferFn.
+// By default the session lives on a thread of its own (ort-node-thread.mjs), so the JS thread can read and fill the
+// next tile while this one infers: onnxruntime-node's `run` computes on the thread that calls it.
+import { Worker } from 'node:worker_threads';
 import * as ort from 'onnxruntime-node';
 import { SeamtallyError } from '../core/errors.ts';
 import { checkModelIO, type ModelDim, type ModelSidecar } from '../core/model-contract.ts';
@@ -11,7 +14,24 @@ export interface NodeModelOptions {
   threads?: number;
   /** Tile size the run will feed (default the sidecar's tilePx); checked against fixed model dimensions. */
   tilePx?: number;
+  /**
+   * Run the session on its own thread (default true): `infer` then returns at once to the event loop and the JS
+   * thread is free while the tile infers; each input is copied once into shared memory (a few ms for a 1 440² tile).
+   * False: on the calling thread, no copy.
+   */
+  offThread?: boolean;
 }
+
+/** What the CLI needs of a session, on this thread or on its own. */
+interface SessionLike {
+  inputNames: readonly string[];
+  outputNames: readonly string[];
+  inputMetadata: readonly MetaLike[];
+  outputMetadata: readonly MetaLike[];
+  run(inputName: string, input: Float32Array, dims: readonly number[]): Promise<Array<{ name: string; type: string; data: unknown; dims: readonly number[] }>>;
+  release(): Promise<void>;
+}
+interface MetaLike { name: string; isTensor: boolean; shape: ReadonlyArray<number | string> }
 
 export interface NodeModel {
   infer: InferFn;
@@ -22,10 +42,45 @@ export interface NodeModel {
 
 /** Open `modelBytes` (the .onnx file) with onnxruntime-node and check its inputs and outputs against the sidecar. */
 export async function openNodeModel(modelBytes: Uint8Array, sidecar: ModelSidecar, opts: NodeModelOptions = {}): Promise<NodeModel> {
+  const threads = Math.max(1, Math.floor(opts.threads ?? 1));
+  const session = (opts.offThread ?? true) ? await openThreadSession(modelBytes, threads) : await openLocalSession(modelBytes, threads);
+  const dims = (meta: readonly MetaLike[]): Record<string, ModelDim[] | undefined> => {
+    const out: Record<string, ModelDim[] | undefined> = {};
+    for (const m of meta) out[m.name] = m.isTensor && m.shape.length ? m.shape.map((d) => (typeof d === 'number' && d >= 0 ? d : String(d))) : undefined;
+    return out;
+  };
+  const tilePx = opts.tilePx ?? sidecar.tilePx;
+  try {
+    checkModelIO({ ...sidecar, tilePx }, {
+      inputNames: session.inputNames,
+      outputNames: session.outputNames,
+      inputDims: dims(session.inputMetadata),
+      outputDims: dims(session.outputMetadata),
+    });
+  } catch (err) {
+    await session.release();
+    throw err;
+  }
+  const inputName = sidecar.input.name;
+  const infer: InferFn = async (input, shape) => {
+    const res = await session.run(inputName, input, shape);
+    const out: Record<string, TensorLike> = {};
+    for (const t of res) {
+      if (t.type !== 'float32') {
+        throw new SeamtallyError('model-mismatch', `The model's output "${t.name}" is ${t.type}, but the contract needs float32 outputs. Export the model with float32 outputs.`);
+      }
+      out[t.name] = { data: t.data as Float32Array, dims: t.dims };
+    }
+    return out;
+  };
+  return { infer, inputNames: session.inputNames, outputNames: session.outputNames, close: () => session.release() };
+}
+
+async function openLocalSession(modelBytes: Uint8Array, threads: number): Promise<SessionLike> {
   let session: ort.InferenceSession;
   try {
     session = await ort.InferenceSession.create(modelBytes, {
-      intraOpNumThreads: Math.max(1, Math.floor(opts.threads ?? 1)),
+      intraOpNumThreads: threads,
       interOpNumThreads: 1,
       executionMode: 'sequential',
       graphOptimizationLevel: 'all',
@@ -33,30 +88,92 @@ export async function openNodeModel(modelBytes: Uint8Array, sidecar: ModelSideca
   } catch (err) {
     throw modelLoadFailure(err, modelBytes.length);
   }
-  const dims = (meta: readonly ort.InferenceSession.ValueMetadata[]): Record<string, ModelDim[] | undefined> => {
-    const out: Record<string, ModelDim[] | undefined> = {};
-    for (const m of meta) out[m.name] = m.isTensor && m.shape.length ? m.shape.map((d) => (typeof d === 'number' && d >= 0 ? d : String(d))) : undefined;
-    return out;
+  const meta = (list: readonly ort.InferenceSession.ValueMetadata[]): MetaLike[] =>
+    list.map((m) => ({ name: m.name, isTensor: m.isTensor, shape: m.isTensor ? m.shape : [] }));
+  return {
+    inputNames: session.inputNames, outputNames: session.outputNames,
+    inputMetadata: meta(session.inputMetadata), outputMetadata: meta(session.outputMetadata),
+    async run(inputName, input, dims) {
+      const res = await session.run({ [inputName]: new ort.Tensor('float32', input, [...dims]) });
+      return Object.entries(res).map(([name, t]) => ({ name, type: t.type, data: t.data, dims: t.dims }));
+    },
+    release: () => session.release(),
   };
-  const tilePx = opts.tilePx ?? sidecar.tilePx;
-  checkModelIO({ ...sidecar, tilePx }, {
-    inputNames: session.inputNames,
-    outputNames: session.outputNames,
-    inputDims: dims(session.inputMetadata),
-    outputDims: dims(session.outputMetadata),
-  });
-  const inputName = sidecar.input.name;
-  const infer: InferFn = async (input, shape) => {
-    const feeds = { [inputName]: new ort.Tensor('float32', input, [...shape]) };
-    const res = await session.run(feeds);
-    const out: Record<string, TensorLike> = {};
-    for (const [name, t] of Object.entries(res)) {
-      if (t.type !== 'float32') {
-        throw new SeamtallyError('model-mismatch', `The model's output "${name}" is ${t.type}, but the contract needs float32 outputs. Export the model with float32 outputs.`);
+}
+
+type FromThread =
+  | { kind: 'ready'; inputNames: string[]; outputNames: string[]; inputMetadata: MetaLike[]; outputMetadata: MetaLike[] }
+  | { kind: 'load-failed'; message: string }
+  | { kind: 'result'; id: number; outputs: Array<{ name: string; type: string; data: unknown; dims: number[] }> }
+  | { kind: 'run-failed'; id: number; message: string };
+
+async function openThreadSession(modelBytes: Uint8Array, threads: number): Promise<SessionLike> {
+  const bytes = modelBytes.slice().buffer; // the thread gets its own copy
+  const worker = new Worker(new URL('./ort-node-thread.mjs', import.meta.url), { workerData: { modelBytes: bytes, threads }, transferList: [bytes] });
+  const pending = new Map<number, { resolve: (v: FromThread & { kind: 'result' }) => void; reject: (e: unknown) => void }>();
+  let failure: Error | null = null;
+  const failAll = (err: Error) => {
+    failure ??= err;
+    for (const p of pending.values()) p.reject(failure);
+    pending.clear();
+  };
+  const ready = new Promise<FromThread & { kind: 'ready' }>((resolve, reject) => {
+    worker.on('message', (m: FromThread) => {
+      if (m.kind === 'ready') resolve(m);
+      else if (m.kind === 'load-failed') reject(modelLoadFailure(new Error(m.message), modelBytes.length));
+      else {
+        const p = pending.get(m.id);
+        if (!p) return;
+        pending.delete(m.id);
+        if (m.kind === 'result') p.resolve(m);
+        else p.reject(new SeamtallyError('model-mismatch', `onnxruntime could not run the model on this tile (${m.message.split('\n')[0].slice(0, 200)}): check that the model takes a float32 image of this size.`));
       }
-      out[name] = { data: t.data as Float32Array, dims: t.dims };
-    }
-    return out;
+    });
+    worker.on('error', (err) => { reject(err); failAll(err); });
+    worker.on('exit', (code) => {
+      const err = new Error(`the inference thread stopped (exit code ${code})`);
+      reject(err);
+      failAll(err);
+    });
+  });
+  let m: FromThread & { kind: 'ready' };
+  try {
+    m = await ready;
+  } catch (err) {
+    await worker.terminate();
+    throw err;
+  }
+  // shared buffers for inputs on their way to the thread, reused (one per run in flight)
+  const free: SharedArrayBuffer[] = [];
+  let nextId = 1;
+  let closed = false;
+  return {
+    inputNames: m.inputNames, outputNames: m.outputNames, inputMetadata: m.inputMetadata, outputMetadata: m.outputMetadata,
+    async run(inputName, input, dims) {
+      if (closed) throw new SeamtallyError('cancelled', 'The model was closed.');
+      if (failure) throw failure;
+      const bytesNeeded = input.length * 4;
+      const k = free.findIndex((b) => b.byteLength >= bytesNeeded);
+      const shared = k >= 0 ? free.splice(k, 1)[0] : new SharedArrayBuffer(bytesNeeded);
+      new Float32Array(shared, 0, input.length).set(input);
+      const id = nextId++;
+      try {
+        const res = await new Promise<FromThread & { kind: 'result' }>((resolve, reject) => {
+          pending.set(id, { resolve, reject });
+          worker.postMessage({ kind: 'run', id, inputName, shared, length: input.length, dims: [...dims] });
+        });
+        return res.outputs;
+      } finally {
+        free.push(shared);
+      }
+    },
+    async release() {
+      if (closed) return;
+      closed = true;
+      const exited = new Promise<void>((resolve) => worker.once('exit', () => resolve()));
+      worker.postMessage({ kind: 'close' });
+      await Promise.race([exited, new Promise<void>((resolve) => setTimeout(resolve, 2000).unref())]);
+      await worker.terminate();
+    },
   };
-  return { infer, inputNames: session.inputNames, outputNames: session.outputNames, close: () => session.release() };
 }

@@ -46,6 +46,10 @@ describe('GDAL-written DEFLATE reads back as GDAL reads it', () => {
   const cases: { name: string; dtype: FixtureDtype; bands: number; blockPx?: number; args: string[] }[] = [
     { name: 'tiled uint8 RGB, PREDICTOR=2', dtype: 'uint8', bands: 3, blockPx: 128, args: ['-co', 'PREDICTOR=2'] },
     { name: 'tiled uint8 RGB, no predictor', dtype: 'uint8', bands: 3, blockPx: 128, args: [] },
+    // the one-pass de-interleave that undoes Predictor 2 (unpack-block.ts): 4 bands (RGB+NIR) and 1 band (pan)
+    { name: 'tiled uint16 4 bands, PREDICTOR=2', dtype: 'uint16', bands: 4, blockPx: 64, args: ['-co', 'PREDICTOR=2'] },
+    { name: 'tiled uint8 1 band, PREDICTOR=2', dtype: 'uint8', bands: 1, blockPx: 128, args: ['-co', 'PREDICTOR=2'] },
+    { name: 'stripped uint8 RGB, PREDICTOR=2, 7 rows per strip', dtype: 'uint8', bands: 3, args: ['-co', 'PREDICTOR=2', '-co', 'BLOCKYSIZE=7'] },
     { name: 'stripped uint16, 2 bands, PREDICTOR=2, 16 rows per strip', dtype: 'uint16', bands: 2, args: ['-co', 'PREDICTOR=2', '-co', 'BLOCKYSIZE=16'] },
     { name: 'tiled uint16, PREDICTOR=2, band-interleaved', dtype: 'uint16', bands: 2, blockPx: 64, args: ['-co', 'PREDICTOR=2', '-co', 'INTERLEAVE=BAND'] },
     { name: 'tiled float32, 3 bands, PREDICTOR=3', dtype: 'float32', bands: 3, blockPx: 128, args: ['-co', 'PREDICTOR=3'] },

@@ -1,0 +1,50 @@
+// The onnxruntime-node session of the CLI, on a thread of its own (node:worker_threads). onnxruntime-node's
+// `session.run` computes on the calling thread, so a session on the JS thread blocks reading and filling the next
+// tile for the whole inference; here the JS thread reads and fills while this thread infers. Plain JavaScript (no
+// TypeScript loader is registered in worker threads). Messages: see ort-node-thread-protocol.ts.
+import { parentPort, workerData } from 'node:worker_threads';
+import * as ort from 'onnxruntime-node';
+
+const errorText = (err) => (err instanceof Error ? err.message : String(err));
+
+let session;
+try {
+  session = await ort.InferenceSession.create(new Uint8Array(workerData.modelBytes), {
+    intraOpNumThreads: workerData.threads,
+    interOpNumThreads: 1,
+    executionMode: 'sequential',
+    graphOptimizationLevel: 'all',
+  });
+} catch (err) {
+  parentPort.postMessage({ kind: 'load-failed', message: errorText(err) });
+}
+
+if (session) {
+  const meta = (list) => list.map((m) => ({ name: m.name, isTensor: m.isTensor, shape: m.isTensor ? [...m.shape] : [] }));
+  parentPort.postMessage({
+    kind: 'ready', inputNames: [...session.inputNames], outputNames: [...session.outputNames],
+    inputMetadata: meta(session.inputMetadata), outputMetadata: meta(session.outputMetadata),
+  });
+  // onnxruntime-node does not take typed arrays on shared memory: each input is copied into this thread's own
+  // buffer (reused while it is large enough)
+  let own = new Float32Array(0);
+  parentPort.on('message', async (m) => {
+    if (m.kind === 'close') {
+      await session.release();
+      parentPort.close();
+      return;
+    }
+    try {
+      if (own.length < m.length) own = new Float32Array(m.length);
+      const input = own.length === m.length ? own : own.subarray(0, m.length);
+      input.set(new Float32Array(m.shared, 0, m.length));
+      const res = await session.run({ [m.inputName]: new ort.Tensor('float32', input, m.dims) });
+      // outputs are small (a quarter of the tile per channel at stride 4): copied, not transferred (their buffers
+      // belong to onnxruntime-node)
+      const outputs = Object.entries(res).map(([name, t]) => ({ name, type: t.type, dims: [...t.dims], data: t.data }));
+      parentPort.postMessage({ kind: 'result', id: m.id, outputs });
+    } catch (err) {
+      parentPort.postMessage({ kind: 'run-failed', id: m.id, message: errorText(err) });
+    }
+  });
+}

@@ -1,0 +1,85 @@
+// Copying one decoded file block (tile or group of strips) into band-separated arrays, in one pass over its bytes:
+// interleaved ("chunky", PlanarConfiguration 1) samples are split per band, and TIFF horizontal differencing
+// (Predictor 2, TIFF 6.0 §14) can be undone on the way for unsigned 8- and 16-bit samples, so a block is read once
+// instead of three times (predictor pass, then one strided pass per band). Band-separate blocks (PlanarConfiguration
+// 2) are copied a row at a time.
+
+type Samples = Uint8Array | Uint16Array | Int8Array | Int16Array | Uint32Array | Int32Array | Float32Array | Float64Array;
+
+/** The part of a decoded block to copy and where it goes. */
+export interface UnpackRegion {
+  /** Pixels per row of the decoded block (a tile's width, or the image width for strips). */
+  rowLenPx: number;
+  /** Block-local columns [colPx0, colPx1) and rows [rowPx0, rowPx1) to copy. */
+  colPx0: number; colPx1: number; rowPx0: number; rowPx1: number;
+  /** Row length of the destination arrays and where block column colPx0 / row rowPx0 lands in them. */
+  dstWidthPx: number; dstXPx: number; dstYPx: number;
+}
+
+/**
+ * Split the interleaved samples of `src` (`spp` per pixel) into `dst[b]` for b < dst.length (extra samples, e.g.
+ * alpha, are skipped). `accMask` 0xff or 0xffff undoes Predictor 2 on unsigned 8/16-bit samples while copying
+ * (each stored sample is the difference to the same band's sample on its left, modulo 2^bits): accumulation starts
+ * at the block's first column whatever `colPx0` is. `accMask` 0: samples are copied as they are.
+ */
+export function unpackChunky(src: Samples, spp: number, dst: Samples[], r: UnpackRegion, accMask: 0 | 0xff | 0xffff): void {
+  const nb = Math.min(dst.length, spp);
+  if (accMask !== 0 && !(src instanceof Uint8Array || src instanceof Uint16Array)) {
+    throw new Error('unpackChunky: Predictor 2 is undone here only on unsigned 8/16-bit samples');
+  }
+  if (nb === 3 && spp === 3) {
+    unpack3(src, dst[0], dst[1], dst[2], r, accMask);
+    return;
+  }
+  for (let y = r.rowPx0; y < r.rowPx1; y++) {
+    const rowS = y * r.rowLenPx * spp;
+    const rowD = (r.dstYPx + y - r.rowPx0) * r.dstWidthPx + r.dstXPx - r.colPx0;
+    for (let b = 0; b < nb; b++) {
+      const out = dst[b];
+      if (accMask !== 0) {
+        let acc = 0;
+        for (let x = 0, s = rowS + b; x < r.colPx1; x++, s += spp) {
+          acc = (acc + src[s]) & accMask;
+          if (x >= r.colPx0) out[rowD + x] = acc;
+        }
+      } else {
+        for (let x = r.colPx0, s = rowS + r.colPx0 * spp + b; x < r.colPx1; x++, s += spp) out[rowD + x] = src[s];
+      }
+    }
+  }
+}
+
+/** Three interleaved bands (RGB), the common case: one pass, three accumulators. */
+function unpack3(src: Samples, d0: Samples, d1: Samples, d2: Samples, r: UnpackRegion, accMask: number): void {
+  const { rowLenPx, colPx0, colPx1 } = r;
+  for (let y = r.rowPx0; y < r.rowPx1; y++) {
+    let s = y * rowLenPx * 3;
+    const rowD = (r.dstYPx + y - r.rowPx0) * r.dstWidthPx + r.dstXPx - colPx0;
+    if (accMask !== 0) {
+      let a0 = 0, a1 = 0, a2 = 0;
+      for (let x = 0; x < colPx0; x++, s += 3) {
+        a0 = (a0 + src[s]) & accMask; a1 = (a1 + src[s + 1]) & accMask; a2 = (a2 + src[s + 2]) & accMask;
+      }
+      for (let x = colPx0, d = rowD + colPx0; x < colPx1; x++, s += 3, d++) {
+        a0 = (a0 + src[s]) & accMask; a1 = (a1 + src[s + 1]) & accMask; a2 = (a2 + src[s + 2]) & accMask;
+        d0[d] = a0; d1[d] = a1; d2[d] = a2;
+      }
+    } else {
+      s += colPx0 * 3;
+      for (let x = colPx0, d = rowD + colPx0; x < colPx1; x++, s += 3, d++) {
+        d0[d] = src[s]; d1[d] = src[s + 1]; d2[d] = src[s + 2];
+      }
+    }
+  }
+}
+
+/** One band of a band-separate block: a row at a time with typed-array set (same element type on both sides). */
+export function unpackPlanar(src: Samples, dst: Samples, r: UnpackRegion): void {
+  const n = r.colPx1 - r.colPx0;
+  for (let y = r.rowPx0; y < r.rowPx1; y++) {
+    const s = y * r.rowLenPx + r.colPx0;
+    const d = (r.dstYPx + y - r.rowPx0) * r.dstWidthPx + r.dstXPx;
+    if (src.constructor === dst.constructor) (dst as Uint8Array).set((src as Uint8Array).subarray(s, s + n), d);
+    else for (let x = 0; x < n; x++) dst[d + x] = src[s + x];
+  }
+}
