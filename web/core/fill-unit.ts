@@ -97,23 +97,36 @@ function fillUnitLut(
   const luts = channelLuts(stretch, norm, src[0] instanceof Uint8Array ? 256 : 65536);
   // an integer band never holds a fractional or NaN nodata value: then every pixel is valid
   const nd = nodata !== null && Number.isInteger(nodata) ? nodata : -1;
+  // an invalid pixel: 0 · a + b, as in the general loop
+  const fills = [0, 1, 2].map((c) => 0 * (norm.scale / norm.std[c]) + -norm.mean[c] / norm.std[c]);
+  const s0 = src[0], s1 = src[1], s2 = src[2], l0 = luts[0], l1 = luts[1], l2 = luts[2];
   let validCount = 0;
-  for (let c = 0; c < 3; c++) {
-    const s = src[c], lut = luts[c];
-    const fill = 0 * (norm.scale / norm.std[c]) + -norm.mean[c] / norm.std[c]; // an invalid pixel: 0 · a + b, as in the general loop
-    const off = c * plane;
-    for (let oy = 0; oy < H; oy++) {
-      const row = (y0 + oy) * srcW + x0;
-      const o = off + oy * T, vo = oy * T;
-      if (c === 0) {
-        for (let ox = 0; ox < T; ox++) {
-          const v = s[row + ox];
-          if (v === nd) { valid[vo + ox] = 0; tensor[o + ox] = fill; } else { valid[vo + ox] = 1; validCount++; tensor[o + ox] = lut[v]; }
+  // one pass over the three bands; a row without a nodata pixel (the common case) takes the branch-free loop
+  for (let oy = 0; oy < H; oy++) {
+    const row = (y0 + oy) * srcW + x0;
+    const o = oy * T, o1 = plane + o, o2 = 2 * plane + o;
+    let rowValid = 0;
+    for (let ox = 0; ox < T; ox++) {
+      const v = s0[row + ox];
+      const ok = v === nd ? 0 : 1;
+      valid[o + ox] = ok;
+      rowValid += ok;
+      tensor[o + ox] = l0[v];
+    }
+    validCount += rowValid;
+    if (rowValid === T) {
+      for (let ox = 0; ox < T; ox++) {
+        tensor[o1 + ox] = l1[s1[row + ox]];
+        tensor[o2 + ox] = l2[s2[row + ox]];
+      }
+    } else {
+      for (let ox = 0; ox < T; ox++) {
+        if (valid[o + ox]) {
+          tensor[o1 + ox] = l1[s1[row + ox]];
+          tensor[o2 + ox] = l2[s2[row + ox]];
+        } else {
+          tensor[o + ox] = fills[0]; tensor[o1 + ox] = fills[1]; tensor[o2 + ox] = fills[2];
         }
-      } else if (validCount === plane) {
-        for (let ox = 0; ox < T; ox++) tensor[o + ox] = lut[s[row + ox]];
-      } else {
-        for (let ox = 0; ox < T; ox++) tensor[o + ox] = valid[vo + ox] ? lut[s[row + ox]] : fill;
       }
     }
   }
