@@ -9,6 +9,13 @@ import { makeMergeTables, totalRows } from './merge-data.ts';
 
 export interface TileRunSpec {
   sceneUrl: string;
+  /**
+   * 'file' (default): the scene as a local File, as an analyst opens one (the page's `<input id="bench-scene">`, set
+   * by the Node side with a disk-backed file); 'url': HTTP range requests to the Vite server (as the demo reads).
+   */
+  read?: 'file' | 'url';
+  /** Id of the page's file input that holds the scene of a 'file' run (bench/browser.ts creates and sets it). */
+  fileInputId?: string;
   modelUrl: string;
   sidecarUrl: string;
   /** About this many tiles from the middle of the scene; 0 = all. */
@@ -61,6 +68,13 @@ function coresUsed(a: CpuSnapshot, b: CpuSnapshot, wallMs: number, workers: numb
   };
 }
 
+/** The file the Node side put into the page's file input (bench/browser.ts). */
+function benchFile(id: string | undefined): File {
+  const f = id ? (document.getElementById(id) as HTMLInputElement | null)?.files?.[0] : undefined;
+  if (!f) throw new Error(`no scene file in the file input "${id}": bench/browser.ts sets it before runTiles`);
+  return f;
+}
+
 function unwrap<T>(r: { ok: true; value: T } | { ok: false; error: { message: string } }): T {
   if (!r.ok) throw new Error(r.error.message);
   return r.value;
@@ -76,7 +90,7 @@ export async function runTiles(spec: TileRunSpec): Promise<TileRunFigures> {
   for (let i = 0; i < spec.workers; i++) handles.push(spawnDetector(`bench-detector-${i}`));
   try {
     const loads = await Promise.all(handles.map((h) => h.api.loadModel(modelBytes.slice(0), sidecar, { numThreads: 1 }).then((r) => unwrap(r))));
-    const input = { kind: 'url' as const, url: spec.sceneUrl };
+    const input = spec.read === 'url' ? { kind: 'url' as const, url: spec.sceneUrl } : { kind: 'file' as const, file: benchFile(spec.fileInputId) };
     // the bench scenes are in EPSG:32632, which is also their metric frame
     const prepare: ScenePrepareOptions = { sceneIdx: 0, frameEpsg: 32632, minScore: sidecar.minScore ?? 0.5, tilePx: spec.tilePx };
     const plans = await Promise.all(handles.map((h) => h.api.planScene('bench', input, prepare).then((r) => unwrap(r))));

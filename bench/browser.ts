@@ -109,16 +109,31 @@ async function harnessPage(browser: Browser, server: Server): Promise<Page> {
 
 const harnessUrl = () => `/@fs${REPO}/bench/browser-harness.ts`;
 
-/** Tiles on 1 worker then on 2, in one fresh browser; plus the renderer's peak RSS after both. */
-export async function browserTiles(server: Server, specs: TileRunSpec[]): Promise<{ runs: TileRunFigures[]; rendererPeakRssB: number }> {
+/**
+ * Tiles on 1 worker then on 2, in one fresh browser; plus the renderer's peak RSS after both. `scenePath`: the scene
+ * on disk, handed to the page as a File (Playwright's setInputFiles on a local browser gives a disk-backed file,
+ * read lazily like one an analyst picks) for specs that read 'file'.
+ */
+const BENCH_FILE_INPUT = 'bench-scene';
+export async function browserTiles(server: Server, specs: TileRunSpec[], scenePath: string): Promise<{ runs: TileRunFigures[]; rendererPeakRssB: number }> {
   const browser = await launch();
   try {
     const page = await harnessPage(browser, server);
+    if (specs.some((s) => s.read !== 'url')) {
+      await page.evaluate((id) => {
+        const input = document.createElement('input');
+        input.type = 'file';
+        input.id = id;
+        document.body.appendChild(input);
+      }, BENCH_FILE_INPUT);
+      await page.setInputFiles(`#${BENCH_FILE_INPUT}`, scenePath);
+    }
     // the harness calls this at the edges of its timed part, so the CPU figures cover exactly the timed tiles
     await page.exposeFunction('__benchCpu', () => cpuSnapshot(process.pid));
     const runs: TileRunFigures[] = [];
     for (const spec of specs) {
-      runs.push(await page.evaluate(async ([url, s]) => (await import(/* @vite-ignore */ url)).runTiles(s), [harnessUrl(), spec] as const));
+      const s1 = { ...spec, fileInputId: BENCH_FILE_INPUT };
+      runs.push(await page.evaluate(async ([url, s]) => (await import(/* @vite-ignore */ url)).runTiles(s), [harnessUrl(), s1] as const));
     }
     // chromium is a child of this process; its renderer holds the page and the workers
     return { runs, rendererPeakRssB: rendererPeakRssB(process.pid) };

@@ -25,7 +25,7 @@ const { values } = parseArgs({
   options: {
     quick: { type: 'boolean' }, big: { type: 'boolean' }, tiles: { type: 'string' }, model: { type: 'string' },
     'no-browser': { type: 'boolean' }, 'no-app': { type: 'boolean' }, smoke: { type: 'boolean' }, out: { type: 'string' },
-    port: { type: 'string' }, tile: { type: 'string' }, 'cache-mb': { type: 'string' },
+    port: { type: 'string' }, tile: { type: 'string' }, 'cache-mb': { type: 'string' }, read: { type: 'string' },
   },
 });
 const smoke = values.smoke ?? false;
@@ -39,6 +39,9 @@ const forcedTilePx = values.tile ? Number(values.tile) : undefined;
 const MAX_WORKERS = 2;
 const mergeNs = smoke ? [10_000, 100_000] : [100_000, 1_000_000];
 const outPath = resolve(REPO, values.out ?? 'bench/results.json');
+/** How the browser reads the scenes: a local File (default, as an analyst opens one) or HTTP range requests. */
+const browserRead = (values.read ?? 'file') as 'file' | 'url';
+if (browserRead !== 'file' && browserRead !== 'url') throw new Error(`--read takes file or url, not "${values.read}"`);
 
 /** One CLI child run; `pipelined`: 'also' (block: serial, then pipelined as the CLI runs) or 'only' (whole scenes). */
 function cliRun(tif: string, tiles: number, pipelined: 'also' | 'only'): CliRun {
@@ -66,7 +69,7 @@ const runPlans = forcedTilePx ? await Promise.all(scenes.map((tif) => planOf(tif
 const blockTiles = commonBlockTiles(runPlans, askedTiles, MAX_WORKERS);
 const raw: BenchRaw = {
   when: new Date().toISOString(), mode: smoke ? 'smoke' : quick ? 'quick' : 'default', sizes, blockTiles, askedTiles,
-  forcedTilePx: forcedTilePx ?? null, cacheMB: values['cache-mb'] ? Number(values['cache-mb']) : null, model: modelPath.replace(`${REPO}/`, ''),
+  forcedTilePx: forcedTilePx ?? null, cacheMB: values['cache-mb'] ? Number(values['cache-mb']) : null, model: modelPath.replace(`${REPO}/`, ''), browserRead,
   machine: { cpus: cpus().length, cpuModel: cpus()[0]?.model ?? '', loadAvgStart: loadavg() },
   plans: Object.fromEntries(sizes.map((s, k) => [String(s), {
     default: summary(defaultPlans[k]), run: summary(runPlans[k]), block: blockShape(runPlans[k], blockTiles),
@@ -105,9 +108,9 @@ if (!values['no-browser'] && haveChromium()) {
       const key = String(sizes[k]);
       const file = tif.split('/').pop();
       log(`browser ${key}²: ${blockTiles} tiles on 1 worker, then 2…`);
-      const spec = { sceneUrl: `/demo/${file}`, modelUrl: `/models/${modelPath.split('/').pop()}`, sidecarUrl: `/models/${modelPath.split('/').pop()!.replace(/\.onnx$/, '.model.json')}`, tiles: blockTiles, tilePx: forcedTilePx };
+      const spec = { sceneUrl: `/demo/${file}`, modelUrl: `/models/${modelPath.split('/').pop()}`, sidecarUrl: `/models/${modelPath.split('/').pop()!.replace(/\.onnx$/, '.model.json')}`, tiles: blockTiles, tilePx: forcedTilePx, read: browserRead };
       if (!modelPath.startsWith(join(REPO, 'models/'))) log('warning: the browser loads models from models/ only; using the file of that name there');
-      raw.browser[key] = await browserTiles(server, [{ ...spec, workers: 1 }, { ...spec, workers: 2 }]);
+      raw.browser[key] = await browserTiles(server, [{ ...spec, workers: 1 }, { ...spec, workers: 2 }], tif);
     }
     log('merge in the browser (tally worker)…');
     raw.merge.browser = await browserMerge(server, mergeNs);

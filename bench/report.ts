@@ -24,6 +24,8 @@ export interface BenchRaw {
   when: string; mode: string; sizes: number[];
   /** Tiles in the timed block on every scene (`askedTiles` capped at what every scene has, even). */
   blockTiles: number; askedTiles: number; forcedTilePx: number | null; cacheMB: number | null; model: string;
+  /** How the browser read the scenes: a local File or HTTP range requests to Vite (older results: url). */
+  browserRead?: 'file' | 'url';
   machine: { cpus: number; cpuModel: string; loadAvgStart: number[]; loadAvgEnd?: number[] };
   /** Per scene: the default tiling (what prepareScene picks), the plan the runs used (--tile), the block's shape. */
   plans: Record<string, { default: PlanSummary; run: PlanSummary; block: { cols: number; rows: number } }>;
@@ -120,7 +122,7 @@ export function printTable(res: BenchRaw & { figures: ReturnType<typeof figures>
   const F = res.figures;
   const out: string[] = [];
   out.push(`seamtally bench (${res.mode}, ${res.when}, ${res.machine.cpus} cores, load ${res.machine.loadAvgStart.map((l) => l.toFixed(1)).join('/')} → ${(res.machine.loadAvgEnd ?? []).map((l) => l.toFixed(1)).join('/')})`);
-  out.push(`model ${res.model}; per-tile figures on a centred block of ${res.blockTiles} tiles per scene (asked ${res.askedTiles})${res.forcedTilePx ? `, tile size forced to ${res.forcedTilePx} px` : ''}${res.cacheMB !== null ? `, CLI tile cache ${res.cacheMB} MiB` : ''}`);
+  out.push(`model ${res.model}; per-tile figures on a centred block of ${res.blockTiles} tiles per scene (asked ${res.askedTiles})${res.forcedTilePx ? `, tile size forced to ${res.forcedTilePx} px` : ''}${res.cacheMB !== null ? `, CLI tile cache ${res.cacheMB} MiB` : ''}; browser reads ${res.browserRead === 'file' ? 'a local File' : 'HTTP ranges from Vite'}`);
   for (const [k, p] of Object.entries(res.plans)) {
     const d = p.default, run = p.run;
     out.push(`  ${`${k}²`.padEnd(7)} default tiling: ${d.tilePx} px tiles, overlap ${d.overlapPx} px, ${d.cols}×${d.rows} = ${d.tiles} tiles, overhead ${f(d.overheadRatio, 3)}; `
