@@ -38,7 +38,10 @@ export async function startVite(port: number, demoDir: string): Promise<Server> 
 }
 
 export async function launch(): Promise<Browser> {
-  return chromium.launch({ executablePath: chromiumPath(), args: CHROMIUM_ARGS });
+  // SEAMTALLY_BENCH_JS_FLAGS: V8 flags for a profiling run (e.g. "--prof", then `node --prof-process` on the
+  // isolate logs chromium writes into its working directory); never set by the bench itself
+  const jsFlags = process.env.SEAMTALLY_BENCH_JS_FLAGS;
+  return chromium.launch({ executablePath: chromiumPath(), args: jsFlags ? [...CHROMIUM_ARGS, `--js-flags=${jsFlags}`] : CHROMIUM_ARGS });
 }
 
 /** Renderer processes (chromium `--type=renderer`) below `rootPid`. */
