@@ -9,29 +9,57 @@ import type { SampleArray } from './scene-source.ts';
  * `fillUnit` applies.
  */
 export function isContiguousUnit(plan: ResamplePlan): boolean {
-  if (!plan.unit) return false;
+  const r = unitInsideRect(plan);
+  return r !== null && r.x0 === 0 && r.y0 === 0 && r.w === plan.x.start.length && r.h === plan.y.start.length;
+}
+
+/** Output pixels [x0, x0 + w) × [y0, y0 + h) of a plan: the part of a window that lies inside the raster. */
+export interface OutputRect { x0: number; y0: number; w: number; h: number }
+
+/**
+ * For a same-GSD plan whose window may reach past the raster (a scene-edge tile): the output rectangle whose pixels
+ * are inside the raster, when those copy a contiguous source block one to one (then `fillUnit` fills it and every
+ * other pixel is invalid). Null for other plans, or when no output pixel is inside.
+ */
+export function unitInsideRect(plan: ResamplePlan): OutputRect | null {
+  if (!plan.unit) return null;
+  const runs: Array<[number, number]> = [];
   for (const a of [plan.x, plan.y]) {
-    for (let k = 0; k < a.start.length; k++) if (a.inside[k] !== 1 || a.start[k] !== a.start[0] + k) return false;
+    const n = a.start.length;
+    let k0 = 0;
+    while (k0 < n && a.inside[k0] !== 1) k0++;
+    let k1 = k0;
+    while (k1 < n && a.inside[k1] === 1 && a.start[k1] === a.start[k0] + (k1 - k0)) k1++;
+    for (let k = k1; k < n; k++) if (a.inside[k] === 1) return null; // inside pixels not in one run
+    if (k1 === k0) return null;
+    runs.push([k0, k1]);
   }
-  return true;
+  return { x0: runs[0][0], y0: runs[1][0], w: runs[0][1] - runs[0][0], h: runs[1][1] - runs[1][0] };
 }
 
 /**
  * Fill a dense NCHW `tensor` of widthPx × the plan's output height (a sized window may be rectangular) from the window
- * bands `src[0..2]` (row-major, `srcW` wide) through a contiguous unit plan; `valid` gets the first channel's validity (as the general path). Values equal those of
+ * bands `src[0..2]` (row-major, `srcW` wide) through a contiguous unit plan (`isContiguousUnit`), or, with `rect`
+ * (`unitInsideRect`), a unit plan whose window reaches past the raster: `rect` is filled from the source, the rest
+ * marked nodata. `valid` gets the first channel's validity (as the general path). Values equal those of
  * resampleBand (fill 0 for nodata) followed by normaliseInPlace. Returns whether any pixel is valid.
  */
 export function fillUnit(
   src: readonly SampleArray[], srcW: number, plan: ResamplePlan, widthPx: number, nodata: number | null,
-  stretch: Stretch, norm: InputNormalisation, tensor: Float32Array, valid: Uint8Array,
+  stretch: Stretch, norm: InputNormalisation, tensor: Float32Array, valid: Uint8Array, rect?: OutputRect,
 ): boolean {
-  const T = widthPx, H = plan.y.start.length, plane = T * H;
-  const x0 = plan.x.start[0], y0 = plan.y.start[0];
+  const T = widthPx, plane = T * plan.y.start.length;
+  const r = rect ?? { x0: 0, y0: 0, w: T, h: plan.y.start.length };
+  // only a part (a scene-edge tile, `unitInsideRect`): every pixel outside it is nodata, as resampleBand +
+  // normaliseInPlace make it
+  if (rect) fillInvalid(T, plan.y.start.length, r, norm, tensor, valid);
+  const x0 = plan.x.start[r.x0], y0 = plan.y.start[r.y0];
   if (src[0] instanceof Uint8Array || src[0] instanceof Uint16Array) {
     if (src.every((b) => b.constructor === src[0].constructor)) {
-      return fillUnitLut(src as Array<Uint8Array | Uint16Array>, srcW, x0, y0, T, H, nodata, stretch, norm, tensor, valid);
+      return fillUnitLut(src as Array<Uint8Array | Uint16Array>, srcW, x0, y0, T, plane, r, nodata, stretch, norm, tensor, valid);
     }
   }
+  const H = r.h;
   const hasNd = nodata !== null, nanNd = hasNd && Number.isNaN(nodata);
   const identity = stretch.kind === 'identity';
   let any = false;
@@ -42,13 +70,13 @@ export function fillUnit(
     const off = c * plane;
     for (let oy = 0; oy < H; oy++) {
       const row = (y0 + oy) * srcW + x0;
-      const o = off + oy * T;
-      for (let ox = 0; ox < T; ox++) {
+      const vo = (r.y0 + oy) * T + r.x0, o = off + vo;
+      for (let ox = 0; ox < r.w; ox++) {
         let v = s[row + ox];
         const ok = !(hasNd && (nanNd ? v !== v : v === nodata));
-        if (c === 0) { valid[oy * T + ox] = ok ? 1 : 0; if (ok) any = true; }
+        if (c === 0) { valid[vo + ox] = ok ? 1 : 0; if (ok) any = true; }
         let v8: number;
-        if (!valid[oy * T + ox]) v8 = 0;
+        if (!valid[vo + ox]) v8 = 0;
         else {
           v = ok ? Math.fround(v) : 0;
           if (identity) v8 = v;
@@ -89,11 +117,32 @@ function channelLuts(stretch: Stretch, norm: InputNormalisation, size: number): 
   return luts;
 }
 
-function fillUnitLut(
-  src: ReadonlyArray<Uint8Array | Uint16Array>, srcW: number, x0: number, y0: number, T: number, H: number, nodata: number | null,
-  stretch: Stretch, norm: InputNormalisation, tensor: Float32Array, valid: Uint8Array,
-): boolean {
+/** Every pixel of the T × H tensor outside `r`: invalid, channel value 0 · a + b (as the general loop gives nodata). */
+function fillInvalid(T: number, H: number, r: OutputRect, norm: InputNormalisation, tensor: Float32Array, valid: Uint8Array): void {
   const plane = T * H;
+  for (let c = 0; c < 3; c++) {
+    const fill = 0 * (norm.scale / norm.std[c]) + -norm.mean[c] / norm.std[c];
+    const off = c * plane;
+    for (let y = 0; y < H; y++) {
+      const o = off + y * T;
+      if (y < r.y0 || y >= r.y0 + r.h) { tensor.fill(fill, o, o + T); continue; }
+      tensor.fill(fill, o, o + r.x0);
+      tensor.fill(fill, o + r.x0 + r.w, o + T);
+    }
+  }
+  for (let y = 0; y < H; y++) {
+    const o = y * T;
+    if (y < r.y0 || y >= r.y0 + r.h) { valid.fill(0, o, o + T); continue; }
+    valid.fill(0, o, o + r.x0);
+    valid.fill(0, o + r.x0 + r.w, o + T);
+  }
+}
+
+function fillUnitLut(
+  src: ReadonlyArray<Uint8Array | Uint16Array>, srcW: number, x0: number, y0: number, T: number, plane: number, r: OutputRect,
+  nodata: number | null, stretch: Stretch, norm: InputNormalisation, tensor: Float32Array, valid: Uint8Array,
+): boolean {
+  const H = r.h, W = r.w;
   const luts = channelLuts(stretch, norm, src[0] instanceof Uint8Array ? 256 : 65536);
   // an integer band never holds a fractional or NaN nodata value: then every pixel is valid
   const nd = nodata !== null && Number.isInteger(nodata) ? nodata : -1;
@@ -104,9 +153,9 @@ function fillUnitLut(
   // one pass over the three bands; a row without a nodata pixel (the common case) takes the branch-free loop
   for (let oy = 0; oy < H; oy++) {
     const row = (y0 + oy) * srcW + x0;
-    const o = oy * T, o1 = plane + o, o2 = 2 * plane + o;
+    const o = (r.y0 + oy) * T + r.x0, o1 = plane + o, o2 = 2 * plane + o;
     let rowValid = 0;
-    for (let ox = 0; ox < T; ox++) {
+    for (let ox = 0; ox < W; ox++) {
       const v = s0[row + ox];
       const ok = v === nd ? 0 : 1;
       valid[o + ox] = ok;
@@ -114,13 +163,13 @@ function fillUnitLut(
       tensor[o + ox] = l0[v];
     }
     validCount += rowValid;
-    if (rowValid === T) {
-      for (let ox = 0; ox < T; ox++) {
+    if (rowValid === W) {
+      for (let ox = 0; ox < W; ox++) {
         tensor[o1 + ox] = l1[s1[row + ox]];
         tensor[o2 + ox] = l2[s2[row + ox]];
       }
     } else {
-      for (let ox = 0; ox < T; ox++) {
+      for (let ox = 0; ox < W; ox++) {
         if (valid[o + ox]) {
           tensor[o1 + ox] = l1[s1[row + ox]];
           tensor[o2 + ox] = l2[s2[row + ox]];
