@@ -112,12 +112,14 @@ async function harnessPage(browser: Browser, server: Server): Promise<Page> {
 
 const harnessUrl = () => `/@fs${REPO}/bench/browser-harness.ts`;
 
+/** Id of the page's file input that holds the scene of 'file' runs. */
+const BENCH_FILE_INPUT = 'bench-scene';
+
 /**
  * Tiles on 1 worker then on 2, in one fresh browser; plus the renderer's peak RSS after both. `scenePath`: the scene
  * on disk, handed to the page as a File (Playwright's setInputFiles on a local browser gives a disk-backed file,
  * read lazily like one an analyst picks) for specs that read 'file'.
  */
-const BENCH_FILE_INPUT = 'bench-scene';
 export async function browserTiles(server: Server, specs: TileRunSpec[], scenePath: string): Promise<{ runs: TileRunFigures[]; rendererPeakRssB: number }> {
   const browser = await launch();
   try {
@@ -135,8 +137,8 @@ export async function browserTiles(server: Server, specs: TileRunSpec[], scenePa
     await page.exposeFunction('__benchCpu', () => cpuSnapshot(process.pid));
     const runs: TileRunFigures[] = [];
     for (const spec of specs) {
-      const s1 = { ...spec, fileInputId: BENCH_FILE_INPUT };
-      runs.push(await page.evaluate(async ([url, s]) => (await import(/* @vite-ignore */ url)).runTiles(s), [harnessUrl(), s1] as const));
+      const withInput = { ...spec, fileInputId: BENCH_FILE_INPUT };
+      runs.push(await page.evaluate(async ([url, s]) => (await import(/* @vite-ignore */ url)).runTiles(s), [harnessUrl(), withInput] as const));
     }
     // chromium is a child of this process; its renderer holds the page and the workers
     return { runs, rendererPeakRssB: rendererPeakRssB(process.pid) };

@@ -48,11 +48,11 @@ export function fillUnit(
   src: readonly SampleArray[], srcW: number, plan: ResamplePlan, widthPx: number, nodata: number | null,
   stretch: Stretch, norm: InputNormalisation, tensor: Float32Array, valid: Uint8Array, rect?: OutputRect,
 ): boolean {
-  const T = widthPx, plane = T * plan.y.start.length;
-  const r = rect ?? { x0: 0, y0: 0, w: T, h: plan.y.start.length };
+  const T = widthPx, H0 = plan.y.start.length, plane = T * H0;
+  const r = rect ?? { x0: 0, y0: 0, w: T, h: H0 };
   // only a part (a scene-edge tile, `unitInsideRect`): every pixel outside it is nodata, as resampleBand +
   // normaliseInPlace make it
-  if (rect) fillInvalid(T, plan.y.start.length, r, norm, tensor, valid);
+  if (r.x0 > 0 || r.y0 > 0 || r.w < T || r.h < H0) fillInvalid(T, H0, r, norm, tensor, valid);
   const x0 = plan.x.start[r.x0], y0 = plan.y.start[r.y0];
   if (src[0] instanceof Uint8Array || src[0] instanceof Uint16Array) {
     if (src.every((b) => b.constructor === src[0].constructor)) {
@@ -117,11 +117,16 @@ function channelLuts(stretch: Stretch, norm: InputNormalisation, size: number): 
   return luts;
 }
 
-/** Every pixel of the T × H tensor outside `r`: invalid, channel value 0 · a + b (as the general loop gives nodata). */
+/** The tensor value of an invalid pixel in channel c: 0 · a + b, as the general loop gives it (−0 stays −0). */
+function nodataValue(norm: InputNormalisation, c: number): number {
+  return 0 * (norm.scale / norm.std[c]) + -norm.mean[c] / norm.std[c];
+}
+
+/** Every pixel of the T × H tensor outside `r`: invalid, channel value `nodataValue`. */
 function fillInvalid(T: number, H: number, r: OutputRect, norm: InputNormalisation, tensor: Float32Array, valid: Uint8Array): void {
   const plane = T * H;
   for (let c = 0; c < 3; c++) {
-    const fill = 0 * (norm.scale / norm.std[c]) + -norm.mean[c] / norm.std[c];
+    const fill = nodataValue(norm, c);
     const off = c * plane;
     for (let y = 0; y < H; y++) {
       const o = off + y * T;
@@ -146,8 +151,7 @@ function fillUnitLut(
   const luts = channelLuts(stretch, norm, src[0] instanceof Uint8Array ? 256 : 65536);
   // an integer band never holds a fractional or NaN nodata value: then every pixel is valid
   const nd = nodata !== null && Number.isInteger(nodata) ? nodata : -1;
-  // an invalid pixel: 0 · a + b, as in the general loop
-  const fills = [0, 1, 2].map((c) => 0 * (norm.scale / norm.std[c]) + -norm.mean[c] / norm.std[c]);
+  const fills = [0, 1, 2].map((c) => nodataValue(norm, c));
   const s0 = src[0], s1 = src[1], s2 = src[2], l0 = luts[0], l1 = luts[1], l2 = luts[2];
   let validCount = 0;
   // one pass over the three bands; a row without a nodata pixel (the common case) takes the branch-free loop

@@ -7,7 +7,7 @@ import { pixelToMap } from './geotransform.ts';
 import { tileAlignPxOf, type ModelSidecar } from './model-contract.ts';
 import { computeStretch, hasValidSample, joinSamples, normaliseInPlace, readStretchSample, selectBands, type BandSelection, type Stretch, type StretchOptions } from './radiometry.ts';
 import { planResample, resampleBand } from './resample.ts';
-import { fillUnit, isContiguousUnit, unitInsideRect } from './fill-unit.ts';
+import { fillUnit, unitInsideRect } from './fill-unit.ts';
 import type { RasterWindow, SceneSource } from './scene-source.ts';
 import { keepCoreCentres } from './seam-merge.ts';
 import { chooseTilePx, inputSizePx, planTiles, type PlannedTile, type TilePlan, type TileSizeInput } from './tiling.ts';
@@ -181,11 +181,7 @@ export function fillTensor(p: ScenePipeline, tile: PlannedTile, win: RasterWindo
   const dense = ow === T && oh === TH;
   const tensor = input.data, valid = scratch.valid.subarray(0, plane);
   const idx = p.bands.indices;
-  if (dense && isContiguousUnit(rp)) {
-    const src = [win.bands[idx[0]], win.bands[idx[1]], win.bands[idx[2]]];
-    return fillUnit(src, win.windowPx.maxXPx - win.windowPx.minXPx, rp, T, win.nodata, p.stretch, p.sidecar.input, tensor, valid);
-  }
-  // a scene-edge tile at the model GSD: the part inside the raster in one pass, the rest nodata
+  // at the model GSD: the part inside the raster (all of it but at scene edges) in one pass, the rest nodata
   const inside = dense ? unitInsideRect(rp) : null;
   if (inside) {
     const src = [win.bands[idx[0]], win.bands[idx[1]], win.bands[idx[2]]];

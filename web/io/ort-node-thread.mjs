@@ -1,7 +1,8 @@
 // The onnxruntime-node session of the CLI, on a thread of its own (node:worker_threads). onnxruntime-node's
 // `session.run` computes on the calling thread, so a session on the JS thread blocks reading and filling the next
 // tile for the whole inference; here the JS thread reads and fills while this thread infers. Plain JavaScript (no
-// TypeScript loader is registered in worker threads). Messages: see ort-node-thread-protocol.ts.
+// TypeScript loader is registered in worker threads). Messages: the `FromThread` type in ort-node.ts and the two it sends
+// here; session options come from ort-node.ts as they are.
 import { parentPort, workerData } from 'node:worker_threads';
 import * as ort from 'onnxruntime-node';
 
@@ -9,12 +10,7 @@ const errorText = (err) => (err instanceof Error ? err.message : String(err));
 
 let session;
 try {
-  session = await ort.InferenceSession.create(new Uint8Array(workerData.modelBytes), {
-    intraOpNumThreads: workerData.threads,
-    interOpNumThreads: 1,
-    executionMode: 'sequential',
-    graphOptimizationLevel: 'all',
-  });
+  session = await ort.InferenceSession.create(new Uint8Array(workerData.modelBytes), workerData.options);
 } catch (err) {
   parentPort.postMessage({ kind: 'load-failed', message: errorText(err) });
 }

@@ -76,15 +76,15 @@ export async function openNodeModel(modelBytes: Uint8Array, sidecar: ModelSideca
   return { infer, inputNames: session.inputNames, outputNames: session.outputNames, close: () => session.release() };
 }
 
+/** The CLI's session options, on this thread or on its own (ort-node-thread.mjs gets them as they are). */
+function sessionOptions(threads: number): ort.InferenceSession.SessionOptions {
+  return { intraOpNumThreads: threads, interOpNumThreads: 1, executionMode: 'sequential', graphOptimizationLevel: 'all' };
+}
+
 async function openLocalSession(modelBytes: Uint8Array, threads: number): Promise<SessionLike> {
   let session: ort.InferenceSession;
   try {
-    session = await ort.InferenceSession.create(modelBytes, {
-      intraOpNumThreads: threads,
-      interOpNumThreads: 1,
-      executionMode: 'sequential',
-      graphOptimizationLevel: 'all',
-    });
+    session = await ort.InferenceSession.create(modelBytes, sessionOptions(threads));
   } catch (err) {
     throw modelLoadFailure(err, modelBytes.length);
   }
@@ -101,6 +101,7 @@ async function openLocalSession(modelBytes: Uint8Array, threads: number): Promis
   };
 }
 
+/** Messages from ort-node-thread.mjs (to it: { kind: 'run', id, inputName, shared, length, dims } and { kind: 'close' }). */
 type FromThread =
   | { kind: 'ready'; inputNames: string[]; outputNames: string[]; inputMetadata: MetaLike[]; outputMetadata: MetaLike[] }
   | { kind: 'load-failed'; message: string }
@@ -109,7 +110,7 @@ type FromThread =
 
 async function openThreadSession(modelBytes: Uint8Array, threads: number): Promise<SessionLike> {
   const bytes = modelBytes.slice().buffer; // the thread gets its own copy
-  const worker = new Worker(new URL('./ort-node-thread.mjs', import.meta.url), { workerData: { modelBytes: bytes, threads }, transferList: [bytes] });
+  const worker = new Worker(new URL('./ort-node-thread.mjs', import.meta.url), { workerData: { modelBytes: bytes, options: sessionOptions(threads) }, transferList: [bytes] });
   const pending = new Map<number, { resolve: (v: FromThread & { kind: 'result' }) => void; reject: (e: unknown) => void }>();
   let failure: Error | null = null;
   const failAll = (err: Error) => {

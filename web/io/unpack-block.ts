@@ -3,8 +3,7 @@
 // (Predictor 2, TIFF 6.0 §14) can be undone on the way for unsigned 8- and 16-bit samples, so a block is read once
 // instead of three times (predictor pass, then one strided pass per band). Band-separate blocks (PlanarConfiguration
 // 2) are copied a row at a time.
-
-type Samples = Uint8Array | Uint16Array | Int8Array | Int16Array | Uint32Array | Int32Array | Float32Array | Float64Array;
+import type { SampleArray } from '../core/scene-source.ts';
 
 /** The part of a decoded block to copy and where it goes. */
 export interface UnpackRegion {
@@ -22,7 +21,7 @@ export interface UnpackRegion {
  * (each stored sample is the difference to the same band's sample on its left, modulo 2^bits): accumulation starts
  * at the block's first column whatever `colPx0` is. `accMask` 0: samples are copied as they are.
  */
-export function unpackChunky(src: Samples, spp: number, dst: Samples[], r: UnpackRegion, accMask: 0 | 0xff | 0xffff): void {
+export function unpackChunky(src: SampleArray, spp: number, dst: SampleArray[], r: UnpackRegion, accMask: 0 | 0xff | 0xffff): void {
   const nb = Math.min(dst.length, spp);
   if (accMask !== 0 && !(src instanceof Uint8Array || src instanceof Uint16Array)) {
     throw new Error('unpackChunky: Predictor 2 is undone here only on unsigned 8/16-bit samples');
@@ -50,7 +49,7 @@ export function unpackChunky(src: Samples, spp: number, dst: Samples[], r: Unpac
 }
 
 /** Three interleaved bands (RGB), the common case: one pass, three accumulators. */
-function unpack3(src: Samples, d0: Samples, d1: Samples, d2: Samples, r: UnpackRegion, accMask: number): void {
+function unpack3(src: SampleArray, d0: SampleArray, d1: SampleArray, d2: SampleArray, r: UnpackRegion, accMask: number): void {
   const { rowLenPx, colPx0, colPx1 } = r;
   for (let y = r.rowPx0; y < r.rowPx1; y++) {
     let s = y * rowLenPx * 3;
@@ -74,7 +73,7 @@ function unpack3(src: Samples, d0: Samples, d1: Samples, d2: Samples, r: UnpackR
 }
 
 /** One band of a band-separate block: a row at a time with typed-array set (same element type on both sides). */
-export function unpackPlanar(src: Samples, dst: Samples, r: UnpackRegion): void {
+export function unpackPlanar(src: SampleArray, dst: SampleArray, r: UnpackRegion): void {
   const n = r.colPx1 - r.colPx0;
   for (let y = r.rowPx0; y < r.rowPx1; y++) {
     const s = y * r.rowLenPx + r.colPx0;
