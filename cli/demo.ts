@@ -37,12 +37,14 @@ export function generateDemo(dir: string, log: (line: string) => void = () => {}
   writeWhole(join(dir, 'manifest.json'), `${JSON.stringify(demoManifest(params), null, 2)}\n`);
 }
 
+export const USAGE = 'Usage: seamtally demo [--out DIR] [--force] [--quiet]';
+
 export async function run(argv: string[]): Promise<number> {
   let v: { out?: string; force?: boolean; quiet?: boolean };
   try {
     v = parseArgs({ args: argv, options: { out: { type: 'string' }, force: { type: 'boolean' }, quiet: { type: 'boolean' } } }).values;
   } catch (err) {
-    throw new SeamtallyError('bad-argument', `${(err as Error).message}. Usage: seamtally demo [--out DIR] [--force] [--quiet]`);
+    throw new SeamtallyError('bad-argument', `${(err as Error).message}. ${USAGE}`);
   }
   const dir = v.out ?? DEFAULT_DEMO_DIR;
   const log = v.quiet ? () => {} : (l: string) => process.stderr.write(`${l}\n`);

@@ -20,7 +20,7 @@ import { readValidMask } from '../web/core/valid-mask.ts';
 import { openGeoTiffPath } from '../web/io/geotiff-source.ts';
 import { openNodeModel } from '../web/io/ort-node.ts';
 
-const USAGE = 'Usage: seamtally detect SCENE.tif... --aoi AOI.geojson --model FILE.onnx --out DIR [--tile PX] [--overlap PX|auto] [--min-score S] [--date YYYY-MM-DD] [--threads N] [--bands R,G,B] [--quiet]';
+export const USAGE = 'Usage: seamtally detect SCENE.tif... --aoi AOI.geojson --model FILE.onnx --out DIR [--tile PX] [--overlap PX|auto] [--min-score S] [--date YYYY-MM-DD] [--threads N] [--bands R,G,B] [--quiet]';
 
 export interface DetectArgs {
   scenes: string[];

@@ -32,16 +32,23 @@ function num(v: string | undefined, name: string): number | undefined {
   return x;
 }
 
+export const USAGE = 'Usage: seamtally eval --model FILE.onnx --scenes DIR --out FILE.json [--min-score S] [--eval-min-score S] [--iou F] [--tile PX] [--threads N] [--difficult-below F] [--write-quality] [--eval-set TEXT] [--quiet]';
+
 function parseEvalArgs(argv: string[]): EvalArgs {
-  const { values: v } = parseArgs({
-    args: argv, allowPositionals: false, options: {
-      model: { type: 'string' }, scenes: { type: 'string' }, out: { type: 'string' }, 'min-score': { type: 'string' },
-      'eval-min-score': { type: 'string' }, iou: { type: 'string' }, threads: { type: 'string' }, tile: { type: 'string' },
-      'difficult-below': { type: 'string' }, 'write-quality': { type: 'boolean' }, 'eval-set': { type: 'string' }, quiet: { type: 'boolean' },
-    },
-  });
+  let v;
+  try {
+    v = parseArgs({
+      args: argv, allowPositionals: false, options: {
+        model: { type: 'string' }, scenes: { type: 'string' }, out: { type: 'string' }, 'min-score': { type: 'string' },
+        'eval-min-score': { type: 'string' }, iou: { type: 'string' }, threads: { type: 'string' }, tile: { type: 'string' },
+        'difficult-below': { type: 'string' }, 'write-quality': { type: 'boolean' }, 'eval-set': { type: 'string' }, quiet: { type: 'boolean' },
+      },
+    }).values;
+  } catch (err) {
+    throw new SeamtallyError('bad-argument', `${(err as Error).message}. ${USAGE}`);
+  }
   if (!v.model || !v.scenes || !v.out) {
-    throw new SeamtallyError('bad-argument', 'Usage: seamtally eval --model FILE.onnx --scenes DIR --out FILE.json [--min-score S] [--tile PX] [--write-quality] [--eval-set TEXT]');
+    throw new SeamtallyError('bad-argument', `--model, --scenes and --out are required. ${USAGE}`);
   }
   return {
     model: v.model, scenes: v.scenes, out: v.out, minScore: num(v['min-score'], 'min-score'),

@@ -3,7 +3,7 @@ import { inflateSync } from 'node:zlib';
 import { toErrorInfo } from '../web/core/errors.ts';
 import { setSyncInflate } from '../web/io/inflate.ts';
 
-type Command = { run(argv: string[]): Promise<number> };
+type Command = { run(argv: string[]): Promise<number>; USAGE: string };
 const commands: Record<string, () => Promise<Command>> = {
   detect: () => import('./detect.ts'),
   synth: () => import('./synth.ts'),
@@ -15,10 +15,21 @@ export async function main(argv: string[]): Promise<number> {
   // Node's zlib inflates DEFLATE tiles ~3× faster than DecompressionStream; maxOutputLength keeps the bound
   setSyncInflate((bytes, maxOutBytes) => inflateSync(bytes, { maxOutputLength: maxOutBytes }));
   const [cmd, ...rest] = argv;
+  const isHelp = (a: string | undefined) => a === '--help' || a === '-h' || a === 'help';
+  if (isHelp(cmd)) {
+    const only = rest[0] && commands[rest[0]] ? [rest[0]] : Object.keys(commands);
+    const lines = await Promise.all(only.map(async (c) => (await commands[c]()).USAGE));
+    process.stdout.write(`${lines.join('\n')}\n`);
+    return 0;
+  }
   const load = cmd ? commands[cmd] : undefined;
   if (!load) {
-    process.stderr.write(`seamtally: unknown command "${cmd ?? ''}". Commands: ${Object.keys(commands).join(', ')}.\n`);
+    process.stderr.write(`seamtally: unknown command "${cmd ?? ''}". Commands: ${Object.keys(commands).join(', ')} (seamtally --help shows how to call each).\n`);
     return 2;
+  }
+  if (rest.includes('--help') || rest.includes('-h')) {
+    process.stdout.write(`${(await load()).USAGE}\n`);
+    return 0;
   }
   try {
     return await (await load()).run(rest);

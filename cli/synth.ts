@@ -7,7 +7,7 @@ import { makeSceneParams, type BandLayout, type BitDepth, type SceneParams } fro
 import { writeScene, type WriteSceneStats } from '../synth/write-scene.ts';
 import { fileSink, fileSpools } from './file-sink.ts';
 
-const USAGE = 'Usage: seamtally synth --out DIR --seed N --gsd M --size PX [--width PX --height PX] [--date YYYY-MM-DD] [--bands rgb|rgbn|pan|8] [--bits 8|11|12|16] [--scenario town|business-park] [--name NAME] [--tile PX] [--format auto|classic|bigtiff] [--haze F] [--sun-azimuth DEG --sun-elevation DEG] [--occupancy F] [--origin EASTING,NORTHING] [--epsg 326NN] [--quiet]';
+export const USAGE = 'Usage: seamtally synth --out DIR --seed N --gsd M --size PX [--width PX --height PX] [--date YYYY-MM-DD] [--bands rgb|rgbn|pan|8] [--bits 8|11|12|16] [--scenario town|business-park] [--name NAME] [--tile PX] [--format auto|classic|bigtiff] [--haze F] [--sun-azimuth DEG --sun-elevation DEG] [--occupancy F] [--origin EASTING,NORTHING] [--epsg 326NN] [--quiet]';
 
 function bad(message: string): never {
   throw new SeamtallyError('bad-argument', `${message} ${USAGE}`);

@@ -11,7 +11,7 @@ import { SeamtallyError } from './errors.ts';
  *   "classes": ["vehicle", "solar_panel"],         required, 1–255 unique non-empty strings; class index = position
  *   "inputGsdM": 0.3,                              required, metres per input pixel, 0 < g ≤ 10
  *   "tilePx": 512,                                 required, square input size, integer 32–4096
- *   "maxTilePx": 1536,                             optional, integer tilePx–4096, a multiple of tileAlignPx: the
+ *   "maxTilePx": 1792,                             optional, integer tilePx–4096, a multiple of tileAlignPx: the
  *                                                  model also takes inputs of any H × W (rectangular too) that
  *                                                  are multiples of lcm(tileAlignPx, stride), up to this size;
  *                                                  the planner then sizes each window to fit (tiling.ts)
@@ -19,6 +19,10 @@ import { SeamtallyError } from './errors.ts';
  *                                                  stride, 1 for "boxes"): the network's total downsampling; tile
  *                                                  windows start on multiples of it so every tiling shows the
  *                                                  network the same pixel phase
+ *   "contextPx": 38,                               optional, integer 0–512: model pixels of context the network
+ *                                                  needs around an object for its score not to depend on where a
+ *                                                  window ends (receptive field); the automatic overlap is half
+ *                                                  the largest object extent plus this (default 8, tiling.ts)
  *   "input": {
  *     "name": "image",                             required, the ONNX input's name
  *     "bands": "rgb",                              required, "rgb": a float32 tensor [1, 3, tilePx, tilePx], R,G,B
@@ -85,6 +89,8 @@ export interface ModelSidecar {
   maxTilePx?: number;
   /** The network's total downsampling: tile windows start on multiples of it. Absent: `tileAlignPxOf`. */
   tileAlignPx?: number;
+  /** Context (model px) the network needs around an object; added to the automatic overlap. Absent: 8. */
+  contextPx?: number;
   input: { name: string; bands: 'rgb'; scale: number; mean: [number, number, number]; std: [number, number, number] };
   output: SidecarOutput;
   minScore?: number;
@@ -199,6 +205,7 @@ export function validateSidecar(value: unknown): ModelSidecar {
     const a = out.tileAlignPx ?? 1;
     if (out.maxTilePx % a !== 0) fail('maxTilePx', `a multiple of tileAlignPx (${a})`);
   }
+  if (s.contextPx !== undefined) out.contextPx = int(s.contextPx, 'contextPx', 0, 512);
   const name = optStr(s.name, 'name'); if (name !== undefined) out.name = name;
   const version = optStr(s.version, 'version'); if (version !== undefined) out.version = version;
   const card = optStr(s.card, 'card'); if (card !== undefined) out.card = card;

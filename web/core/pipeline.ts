@@ -104,7 +104,7 @@ export async function prepareScene(source: SceneSource, sceneIdx: number, sideca
   const overlapPx = opts.overlapPx ?? 'auto';
   const planBase = {
     sceneWidthPx: info.widthPx, sceneHeightPx: info.heightPx, sceneGsdM, modelGsdM: sidecar.inputGsdM,
-    maxObjectExtentM: extentM, overlapPx, alignPx, sizeStepPx: modelSizeStepPx(sidecar),
+    maxObjectExtentM: extentM, overlapPx, contextPx: sidecar.contextPx, alignPx, sizeStepPx: modelSizeStepPx(sidecar),
   };
   const tilePx = opts.tilePx ?? defaultTilePx(sidecar, planBase);
   if (sidecar.output.layout === 'center-heatmap' && tilePx % sidecar.output.stride !== 0) {

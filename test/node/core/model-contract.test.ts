@@ -94,6 +94,14 @@ describe('checkModelIO', () => {
     expect(kindField(() => checkModelIO(ranged, io))).toBe('model-mismatch maxTilePx');
     expect(kindField(() => checkModelIO(ranged, { ...io, inputDims: { image: ['batch', 3, 'height', 'width'] }, outputDims: {} }))).toBe('ok');
   });
+  it('contextPx: a whole number of model pixels 0–512, absent by default', () => {
+    expect(parseSidecar(JSON.stringify(VALID)).contextPx).toBeUndefined();
+    expect(parseSidecar(JSON.stringify({ ...VALID, contextPx: 38 })).contextPx).toBe(38);
+    expect(parseSidecar(JSON.stringify({ ...VALID, contextPx: 0 })).contextPx).toBe(0);
+    for (const bad of [-1, 2.5, 513, '38']) {
+      expect(() => parseSidecar(JSON.stringify({ ...VALID, contextPx: bad }))).toThrow(/contextPx/);
+    }
+  });
   it('names the mismatching field', () => {
     expect(kindField(() => checkModelIO(sc, { ...io, inputNames: ['input'] }))).toBe('model-mismatch input.name');
     expect(kindField(() => checkModelIO(sc, { ...io, inputDims: { image: [1, 3, 256, 256] } }))).toBe('model-mismatch input.name');

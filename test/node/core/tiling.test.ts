@@ -90,6 +90,15 @@ describe('planTiles', () => {
     expect(plan.overlapPx * 0.3).toBeGreaterThanOrEqual(7 / 2);
   });
 
+  it('a model\'s contextPx replaces the default context margin in the automatic overlap', () => {
+    expect(autoOverlapPx(25, 0.3, 38)).toBe(42 + 38); // 12.5 m / 0.3 m = 41.7 → 42 px for half the extent
+    const base = { sceneWidthPx: 4000, sceneHeightPx: 4000, sceneGsdM: 0.3, modelGsdM: 0.3, tilePx: 1024, maxObjectExtentM: 25 };
+    expect(planTiles(base).overlapPx).toBe(50);
+    expect(planTiles({ ...base, contextPx: 38 }).overlapPx).toBe(80);
+    expect(planTiles({ ...base, contextPx: 38, overlapPx: 20 }).overlapPx).toBe(20); // an explicit overlap wins
+    expect(() => planTiles({ ...base, contextPx: -1 })).toThrow(/context margin/);
+  });
+
   it('any object whose centre lies in a core fits wholly inside that tile\'s window (random objects)', () => {
     const plan = planTiles({ sceneWidthPx: 2500, sceneHeightPx: 1800, sceneGsdM: 0.4, modelGsdM: 0.3, tilePx: 384, maxObjectExtentM: 8 });
     const extentPx = 8 / 0.3;
