@@ -24,6 +24,11 @@ export interface TileRunSpec {
   tilePx?: number;
   /** Warm-up tiles per worker before the timed block (default 3), see runTiles. */
   warmupTiles?: number;
+  /**
+   * Send each worker's next tile as a read-ahead hint, as the app's pool does (default true). False: each tile is
+   * read, filled and inferred one after the other (serial), so its phases add up to the worker's wall.
+   */
+  readAhead?: boolean;
 }
 
 /** CPU time so far (ms), read from /proc by the Node side (bench/browser.ts cpuSnapshot) through an exposed function. */
@@ -48,6 +53,7 @@ export interface CoresUsed {
 
 export interface TileRunFigures {
   workers: number;
+  readAhead: boolean;
   tiles: number;
   scenePx: number;
   wallMs: number;
@@ -63,7 +69,8 @@ export interface TileRunFigures {
 function coresUsed(a: CpuSnapshot, b: CpuSnapshot, wallMs: number, workers: number): CoresUsed {
   const perThread = Object.keys(b.workerMs).map((k) => (b.workerMs[k] - (a.workerMs[k] ?? 0)) / wallMs).sort((x, y) => y - x);
   return {
-    renderer: (b.rendererMs - a.rendererMs) / wallMs, workers: perThread.slice(0, workers), busyThreads: perThread.filter((c) => c > 0).length,
+    // each detector worker has an inference worker: the 2 busiest worker threads per detector worker
+    renderer: (b.rendererMs - a.rendererMs) / wallMs, workers: perThread.slice(0, 2 * workers), busyThreads: perThread.filter((c) => c > 0).length,
     machine: (b.machineBusyMs - a.machineBusyMs) / wallMs,
   };
 }
@@ -96,7 +103,8 @@ export async function runTiles(spec: TileRunSpec): Promise<TileRunFigures> {
     const plans = await Promise.all(handles.map((h) => h.api.planScene('bench', input, prepare).then((r) => unwrap(r))));
     const plan: TilePlan = plans[0].plan;
     const tiles = spec.tiles > 0 ? centredBlock(plan, spec.tiles) : plan.tiles;
-    const task = (tileIndex: number) => ({ runId: 'bench', sceneKey: 'bench', input, prepare, tileIndex });
+    // as the app's pool sends them: with the next tile of the worker's band as a read-ahead hint
+    const task = (tileIndex: number, nextTileIndex?: number) => ({ runId: 'bench', sceneKey: 'bench', input, prepare, tileIndex, nextTileIndex });
     // warm-up, not timed: onnxruntime's first runs allocate, and V8 compiles a hot loop (read, fill) to optimised
     // code only after a few calls — the first tile's fill runs ~5× slower than the tenth. Warm-up tiles run on a
     // second opening of the scene (its own key, so its own decoded-tile cache, dropped afterwards): the timed block
@@ -110,6 +118,7 @@ export async function runTiles(spec: TileRunSpec): Promise<TileRunFigures> {
     }));
     // the app's hand-out (web/app/tile-queue.ts): contiguous bands per worker, work stealing at the end
     const queue = new BandQueue(tiles.map((t) => t.index), handles.length);
+    const readAhead = spec.readAhead ?? true;
     const timings: TileTimingsMs = { readMs: 0, resampleMs: 0, inferMs: 0, decodeMs: 0 };
     const busyMs = handles.map(() => 0);
     const cpuNow = (globalThis as { __benchCpu?: () => Promise<CpuSnapshot> }).__benchCpu;
@@ -118,7 +127,7 @@ export async function runTiles(spec: TileRunSpec): Promise<TileRunFigures> {
     await Promise.all(handles.map(async (h, w) => {
       for (let idx = queue.take(w); idx !== undefined; idx = queue.take(w)) {
         const ts = performance.now();
-        const r = unwrap(await h.api.detectTile(task(idx)));
+        const r = unwrap(await h.api.detectTile(task(idx, readAhead ? queue.peek(w) : undefined)));
         busyMs[w] += performance.now() - ts;
         for (const k of Object.keys(timings) as (keyof TileTimingsMs)[]) timings[k] += r.timingsMs[k];
       }
@@ -127,7 +136,7 @@ export async function runTiles(spec: TileRunSpec): Promise<TileRunFigures> {
     const cpu1 = cpuNow ? await cpuNow() : null;
     let scenePx = 0;
     for (const t of tiles) scenePx += tileScenePx(plan, t);
-    return { workers: spec.workers, tiles: tiles.length, scenePx, wallMs, timings, planTiles: plan.tiles.length, overheadRatio: plan.overheadRatio, numThreads: loads[0].numThreads,
+    return { workers: spec.workers, readAhead, tiles: tiles.length, scenePx, wallMs, timings, planTiles: plan.tiles.length, overheadRatio: plan.overheadRatio, numThreads: loads[0].numThreads,
       busyMs, cpu: cpu0 && cpu1 ? coresUsed(cpu0, cpu1, wallMs, spec.workers) : null };
   } finally {
     for (const h of handles) h.terminate();

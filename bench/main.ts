@@ -107,10 +107,10 @@ if (!values['no-browser'] && haveChromium()) {
     for (const [k, tif] of scenes.entries()) {
       const key = String(sizes[k]);
       const file = tif.split('/').pop();
-      log(`browser ${key}²: ${blockTiles} tiles on 1 worker, then 2…`);
+      log(`browser ${key}²: ${blockTiles} tiles on 1 worker, then 2, serial then with read-ahead…`);
       const spec = { sceneUrl: `/demo/${file}`, modelUrl: `/models/${modelPath.split('/').pop()}`, sidecarUrl: `/models/${modelPath.split('/').pop()!.replace(/\.onnx$/, '.model.json')}`, tiles: blockTiles, tilePx: forcedTilePx, read: browserRead };
       if (!modelPath.startsWith(join(REPO, 'models/'))) log('warning: the browser loads models from models/ only; using the file of that name there');
-      raw.browser[key] = await browserTiles(server, [{ ...spec, workers: 1 }, { ...spec, workers: 2 }], tif);
+      raw.browser[key] = await browserTiles(server, [1, 2].flatMap((workers) => [{ ...spec, workers, readAhead: false }, { ...spec, workers }]), tif);
     }
     log('merge in the browser (tally worker)…');
     raw.merge.browser = await browserMerge(server, mergeNs);

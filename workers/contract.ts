@@ -65,6 +65,11 @@ export interface TileTask {
   input: SceneInput;
   prepare: ScenePrepareOptions;
   tileIndex: number;
+  /**
+   * The tile this worker will most likely be sent next (the next of its band): it reads and fills that one while
+   * this one infers. A hint only: any other tile may come next.
+   */
+  nextTileIndex?: number;
   /** Test-only fault (set only when the page was opened with `?fault=`): 'throw' fails the tile, 'crash' kills the worker. */
   fault?: 'throw' | 'crash';
 }

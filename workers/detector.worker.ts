@@ -4,20 +4,28 @@ import { toErrorInfo, SeamtallyError, type Result } from '../web/core/errors.ts'
 import { crsDefinition } from '../web/core/crs.ts';
 import { readValidMask } from '../web/core/valid-mask.ts';
 import { validateSidecar, checkModelIO, type ModelSidecar } from '../web/core/model-contract.ts';
-import { createTileScratch, runTile, type TileScratch } from '../web/core/pipeline.ts';
+import { fillTile, inferTile, readTile, type FilledTile, type InferFn, type ScenePipeline, type TileScratch } from '../web/core/pipeline.ts';
 import { modelLoadFailure } from '../web/core/model-load-failure.ts';
 import { createOrtModel, type OrtModel } from './ort-session.ts';
 import { openInput, SceneCache } from './scene-cache.ts';
 import { renderPreview } from './preview.ts';
 import { assertBandsKnown, assertSomeValidPixels } from './scene-checks.ts';
 import { tableBuffers } from './transfer.ts';
+import { ReadAhead } from './read-ahead.ts';
 import type { DetectorApi } from './contract.ts';
 
 const scenes = new SceneCache();
 const cancelledRuns = new Set<string>();
 let model: { ort: OrtModel; sidecar: ModelSidecar; id: number } | null = null;
 let modelSeq = 0;
-let scratch: TileScratch | null = null;
+const readAhead = new ReadAhead();
+
+/** Read tile `tileIndex` of `p` and fill it into `scratch`. */
+function prepareTile(p: ScenePipeline, tileIndex: number, scratch: TileScratch): Promise<FilledTile> {
+  const tile = p.plan.tiles[tileIndex];
+  if (!tile) return Promise.reject(new Error(`tile ${tileIndex} does not exist (plan has ${p.plan.tiles.length})`));
+  return readTile(p, tile).then((read) => fillTile(p, tile, read, scratch));
+}
 
 async function guard<T>(fn: () => Promise<T>, transfers: (v: T) => Transferable[] = () => []): Promise<Result<T>> {
   try {
@@ -56,12 +64,13 @@ const api = {
   }, (v) => [v.rgba.buffer as ArrayBuffer]),
   loadModel: (bytes, sidecarValue, opts) => guard(async () => {
     const sidecar = validateSidecar(sidecarValue);
+    const byteLength = bytes.byteLength; // the bytes are transferred to the inference worker
     let ort: OrtModel;
-    try { ort = await createOrtModel(bytes, opts); } catch (err) { throw modelLoadFailure(err, bytes.byteLength); }
-    checkModelIO(sidecar, ort.io);
+    try { ort = await createOrtModel(bytes, opts); } catch (err) { throw modelLoadFailure(err, byteLength); }
+    try { checkModelIO(sidecar, ort.io); } catch (err) { await ort.release(); throw err; }
     await model?.ort.release();
     model = { ort, sidecar, id: ++modelSeq };
-    scratch = null;
+    readAhead.drop();
     return { inputNames: [...ort.io.inputNames], outputNames: [...ort.io.outputNames], numThreads: ort.numThreads };
   }),
   planScene: (key, input, opts) => guard(async () => {
@@ -74,17 +83,28 @@ const api = {
     if (task.fault) await injectFault(task.fault);
     const m = needModel();
     const p = await scenes.pipeline(task.sceneKey, task.input, m.sidecar, m.id, task.prepare);
-    const tile = p.plan.tiles[task.tileIndex];
-    if (!tile) throw new Error(`tile ${task.tileIndex} does not exist (plan has ${p.plan.tiles.length})`);
-    if (!scratch || scratch.tilePx !== p.plan.tilePx) scratch = createTileScratch(p.plan.tilePx);
+    const filled = await readAhead.filled(p, task.tileIndex, (s) => prepareTile(p, task.tileIndex, s));
+    // the next tile of this worker's band is read and filled here while this one infers in the inference worker
+    if (task.nextTileIndex !== undefined && task.nextTileIndex !== task.tileIndex && p.plan.tiles[task.nextTileIndex]) {
+      readAhead.start(p, task.nextTileIndex, (s) => prepareTile(p, task.nextTileIndex!, s));
+    }
     const inputName = m.sidecar.input.name;
-    const r = await runTile(p, tile, scratch, (data, dims) => m.ort.run(inputName, data, dims));
-    const t = r.timings;
-    return { sceneKey: task.sceneKey, tileIndex: task.tileIndex, skipped: r.skipped, table: r.table,
-      timingsMs: { readMs: t.readMs, resampleMs: t.resampleMs, inferMs: t.inferMs, decodeMs: t.decodeMs } };
+    const infer: InferFn = async (data, dims) => {
+      const r = await m.ort.run(inputName, data, dims);
+      filled.scratch.tensor = new Float32Array(r.inputBuffer);
+      return r.outputs;
+    };
+    try {
+      const r = await inferTile(p, filled, infer);
+      const t = r.timings;
+      return { sceneKey: task.sceneKey, tileIndex: task.tileIndex, skipped: r.skipped, table: r.table,
+        timingsMs: { readMs: t.readMs, resampleMs: t.resampleMs, inferMs: t.inferMs, decodeMs: t.decodeMs } };
+    } finally {
+      readAhead.give(filled.scratch);
+    }
   }, (v) => tableBuffers(v.table)),
-  cancel(runId) { cancelledRuns.add(runId); },
-  forgetScene: (key) => scenes.forget(key),
+  cancel(runId) { cancelledRuns.add(runId); readAhead.drop(); },
+  forgetScene: (key) => { readAhead.drop(); return scenes.forget(key); },
 } satisfies DetectorApi;
 
 if (!self.name.startsWith('em-pthread')) expose(api);

@@ -1,59 +1,70 @@
-// The only module that touches onnxruntime-web's `ort.env`: configures WASM (SIMD; threads when isolated) once,
-// before the first session, then builds sessions and runs them.
-import * as ort from 'onnxruntime-web/wasm';
+// The detector worker's side of inference: starts its inference worker (infer.worker.ts, which owns the
+// onnxruntime-web session) once, loads models into it and runs tiles there, so this worker's thread is free to read
+// and fill the next tile meanwhile. Input buffers are transferred there and back, outputs transferred here.
+import { wrap, transfer, type Remote } from 'comlink';
+import { fromErrorInfo } from '../web/core/errors.ts';
 import type { ModelIO } from '../web/core/model-contract.ts';
 import type { TensorLike } from '../web/core/decode-outputs.ts';
+import type { InferApi } from './infer-contract.ts';
 
-let configuredThreads: number | null = null;
-
-/** Configure ort.env once per worker. Threads only when the context is cross-origin isolated. */
-function configureOnce(numThreads: number): number {
-  if (configuredThreads !== null) return configuredThreads;
-  const isolated = typeof self !== 'undefined' && (self as { crossOriginIsolated?: boolean }).crossOriginIsolated === true;
-  configuredThreads = isolated ? Math.max(1, Math.floor(numThreads)) : 1;
-  ort.env.wasm.numThreads = configuredThreads;
-  ort.env.wasm.simd = true;
-  ort.env.wasm.proxy = false;
-  ort.env.logLevel = 'error';
-  return configuredThreads;
-}
-
-/** A loaded model: its I/O names and shapes, and a function running one NCHW float tensor. */
+/** A loaded model: its I/O names and shapes, and a function running one NCHW float tensor in the inference worker. */
 export interface OrtModel {
   io: ModelIO;
   numThreads: number;
-  run(inputName: string, data: Float32Array, dims: readonly number[]): Promise<Record<string, TensorLike>>;
+  /**
+   * Run `data` (a view from offset 0 of its buffer). The buffer is transferred to the inference worker — `data` is
+   * empty until this settles — and comes back as `inputBuffer`; after a failure it is gone.
+   */
+  run(inputName: string, data: Float32Array, dims: readonly number[]): Promise<{ outputs: Record<string, TensorLike>; inputBuffer: ArrayBuffer }>;
   release(): Promise<void>;
 }
 
-/** Create a session from ONNX bytes (WASM execution provider). */
-export async function createOrtModel(modelBytes: ArrayBuffer, opts: { numThreads: number }): Promise<OrtModel> {
-  const numThreads = configureOnce(opts.numThreads);
-  const session = await ort.InferenceSession.create(new Uint8Array(modelBytes), {
-    executionProviders: ['wasm'],
-    graphOptimizationLevel: 'all',
-  });
-  const dims = (meta: readonly ort.InferenceSession.ValueMetadata[]) => Object.fromEntries(
-    meta.map((m) => [m.name, m.isTensor ? m.shape.map((d) => (typeof d === 'number' && d >= 0 ? d : typeof d === 'string' ? d : null)) : undefined]));
-  const io: ModelIO = {
-    inputNames: [...session.inputNames],
-    outputNames: [...session.outputNames],
-    inputDims: dims(session.inputMetadata),
-    outputDims: dims(session.outputMetadata),
+interface InferWorker { api: Remote<InferApi>; lost: Promise<never> }
+let inferWorker: InferWorker | null = null;
+
+/**
+ * This detector worker's inference worker, started on first use. When it dies the detector worker throws an
+ * uncaught error too, so the page's pool sees a lost worker, replaces it and retries the tile (worker-pool.ts).
+ */
+function inference(): InferWorker {
+  if (inferWorker) return inferWorker;
+  const worker = new Worker(new URL('./infer.worker.ts', import.meta.url), { type: 'module', name: `${self.name || 'detector'}-infer` });
+  let reject: (err: Error) => void = () => {};
+  const lost = new Promise<never>((_, rej) => { reject = rej; });
+  lost.catch(() => {});
+  const fail = (why: string) => {
+    const err = new Error(`the inference worker stopped (${why})`);
+    reject(err);
+    setTimeout(() => { throw err; });
   };
+  worker.addEventListener('error', (e) => { e.preventDefault(); fail(e.message || 'no message'); });
+  worker.addEventListener('messageerror', () => fail('it sent a message that could not be read'));
+  inferWorker = { api: wrap<InferApi>(worker), lost };
+  return inferWorker;
+}
+
+/** Create a session from ONNX bytes in the inference worker. Throws the raw onnxruntime message on failure. */
+export async function createOrtModel(modelBytes: ArrayBuffer, opts: { numThreads: number }): Promise<OrtModel> {
+  const w = inference();
+  const loaded = await Promise.race([w.api.load(transfer(modelBytes, [modelBytes]), opts), w.lost]);
+  if (!loaded.ok) throw new Error(loaded.error.message);
+  const sessionId = loaded.value.sessionId;
+  let released = false;
   return {
-    io,
-    numThreads,
-    async run(inputName, data, shape) {
-      const feeds = { [inputName]: new ort.Tensor('float32', data, shape) };
-      const out = await session.run(feeds);
-      const res: Record<string, TensorLike> = {};
-      for (const [name, t] of Object.entries(out)) {
-        res[name] = { data: t.data as Float32Array, dims: t.dims };
-        t.dispose?.();
-      }
-      return res;
+    io: loaded.value.io,
+    numThreads: loaded.value.numThreads,
+    async run(inputName, data, dims) {
+      if (released) throw new Error('this model was released');
+      if (data.byteOffset !== 0) throw new Error('the input must start at offset 0 of its buffer');
+      const buf = data.buffer as ArrayBuffer;
+      const r = await Promise.race([w.api.run(sessionId, inputName, transfer(buf, [buf]), data.length, [...dims]), w.lost]);
+      if (!r.ok) throw fromErrorInfo(r.error);
+      return { outputs: r.value.outputs, inputBuffer: r.value.inputBuffer };
     },
-    release: () => session.release(),
+    async release() {
+      if (released) return;
+      released = true;
+      await Promise.race([w.api.release(sessionId), w.lost]);
+    },
   };
 }

@@ -42,6 +42,9 @@ export class BandQueue<T> {
     return own.shift();
   }
 
+  /** The item `take(worker)` would return next from the worker's own band, without taking it (no stealing). */
+  peek(worker: number): T | undefined { return this.bands[worker]?.[0]; }
+
   /** Hand an item back to the front of `worker`'s band (the worker could not start it). */
   putFront(worker: number, item: T): void { this.band(worker).unshift(item); }
 

@@ -86,24 +86,28 @@ export class DetectorPool {
     if (!r.ok) throw fromErrorInfo(r.error);
     this.threadsPerWorker = r.value.numThreads;
   }
-  /** The task as sent for this attempt (test-only faults attached under `?fault=`). */
-  private attemptOf(item: QueueItem): TileTask {
+  /**
+   * The task as sent for this attempt: with the next tile of the worker's band as a read-ahead hint (same scene), and
+   * test-only faults attached under `?fault=`.
+   */
+  private attemptOf(item: QueueItem, next: QueueItem | undefined): TileTask {
+    const task = next && next.task.sceneKey === item.task.sceneKey ? { ...item.task, nextTileIndex: next.task.tileIndex } : item.task;
     const f = this.faults;
-    if (!f) return item.task;
-    if (f.crashAt.has(item.ordinal)) return { ...item.task, fault: 'crash' };
-    if (f.throwAt.has(item.ordinal) && item.attempts === 1) return { ...item.task, fault: 'throw' };
-    return item.task;
+    if (!f) return task;
+    if (f.crashAt.has(item.ordinal)) return { ...task, fault: 'crash' };
+    if (f.throwAt.has(item.ordinal) && item.attempts === 1) return { ...task, fault: 'throw' };
+    return task;
   }
 
   /** One tile on one worker; rejects when the worker is lost, hangs, or the run is aborted. */
-  private async callTile(slot: Slot, item: QueueItem, aborted: Promise<never>): Promise<Result<TileDetections>> {
+  private async callTile(slot: Slot, item: QueueItem, next: QueueItem | undefined, aborted: Promise<never>): Promise<Result<TileDetections>> {
     let timer: ReturnType<typeof setTimeout> | undefined;
     const hung = new Promise<never>((_, reject) => {
       timer = setTimeout(() => reject(new Error(`no answer within ${TILE_TIMEOUT_MS / 1000} s`)), TILE_TIMEOUT_MS);
     });
     try {
       await Promise.race([slot.modelReady, slot.handle.lost, hung, aborted]);
-      const call = slot.handle.api.detectTile(this.attemptOf(item));
+      const call = slot.handle.api.detectTile(this.attemptOf(item, next));
       if (this.faults?.killAt.has(item.ordinal) && item.attempts === 1) setTimeout(() => slot.handle.terminate(), 20);
       return await Promise.race([call, slot.handle.lost, hung, aborted]);
     } finally {
@@ -128,7 +132,7 @@ export class DetectorPool {
         if (item.attempts === 1) item.ordinal = ++dispatched;
         let r: Result<TileDetections>;
         try {
-          r = await this.callTile(slot, item, aborted);
+          r = await this.callTile(slot, item, queue.peek(idx), aborted);
         } catch (err) {
           // The worker itself broke (crash, killed, out of memory, hung): replace it and retry the tile, bounded.
           if (signal.aborted) return;

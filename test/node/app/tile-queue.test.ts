@@ -44,4 +44,14 @@ describe('BandQueue', () => {
     expect(q.take(1)).toBe('x');
     expect([q.take(0), q.take(1), q.take(1), q.take(0)]).toEqual(['a', 'c', 'd', undefined]);
   });
+  it('peek shows what take would return from the worker\'s own band, without taking or stealing', () => {
+    const q = new BandQueue([1, 2, 3, 4], 2);
+    expect(q.peek(0)).toBe(1);
+    expect(q.take(0)).toBe(1);
+    expect(q.peek(0)).toBe(2);
+    expect(q.take(0)).toBe(2);
+    expect(q.peek(0)).toBeUndefined(); // its band is empty: the next take would steal, peek does not
+    expect(q.size).toBe(2);
+    expect(q.peek(5)).toBeUndefined();
+  });
 });
