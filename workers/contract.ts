@@ -70,8 +70,11 @@ export interface TileTask {
    * this one infers. A hint only: any other tile may come next.
    */
   nextTileIndex?: number;
-  /** Test-only fault (set only when the page was opened with `?fault=`): 'throw' fails the tile, 'crash' kills the worker. */
-  fault?: 'throw' | 'crash';
+  /**
+   * Test-only fault (set only when the page was opened with `?fault=`): 'throw' fails the tile, 'crash' kills the
+   * worker, 'infer-crash' kills its inference worker.
+   */
+  fault?: 'throw' | 'crash' | 'infer-crash';
 }
 
 /** Per-stage times of one tile, in milliseconds (core TileTimings). */

@@ -6,7 +6,7 @@ import { readValidMask } from '../web/core/valid-mask.ts';
 import { validateSidecar, checkModelIO, type ModelSidecar } from '../web/core/model-contract.ts';
 import { fillTile, inferTile, readTile, type FilledTile, type InferFn, type ScenePipeline, type TileScratch } from '../web/core/pipeline.ts';
 import { modelLoadFailure } from '../web/core/model-load-failure.ts';
-import { createOrtModel, type OrtModel } from './ort-session.ts';
+import { createOrtModel, crashInferenceWorkerForTest, type OrtModel } from './ort-session.ts';
 import { openInput, SceneCache } from './scene-cache.ts';
 import { renderPreview } from './preview.ts';
 import { assertBandsKnown, assertSomeValidPixels } from './scene-checks.ts';
@@ -41,9 +41,13 @@ function needModel(): NonNullable<typeof model> {
   return model;
 }
 
-/** Test-only faults (the page sets `task.fault` only under `?fault=`): an ordinary throw, or a crash that never answers. */
-async function injectFault(fault: 'throw' | 'crash'): Promise<void> {
+/**
+ * Test-only faults (the page sets `task.fault` only under `?fault=`): an ordinary throw, a crash that never answers,
+ * or a crash of the inference worker (which this worker turns into its own crash).
+ */
+async function injectFault(fault: 'throw' | 'crash' | 'infer-crash'): Promise<void> {
   if (fault === 'throw') throw new Error('injected failure (?fault=throw)');
+  if (fault === 'infer-crash') { crashInferenceWorkerForTest(); await new Promise<never>(() => {}); }
   setTimeout(() => { throw new Error('injected crash (?fault=crash)'); });
   await new Promise<never>(() => {});
 }

@@ -30,4 +30,6 @@ export interface InferApi {
    */
   run(sessionId: number, inputName: string, inputBuffer: ArrayBuffer, length: number, dims: number[]): Promise<Result<InferRunResult>>;
   release(sessionId: number): Promise<void>;
+  /** Test-only (`?fault=infercrash:N`): throw an uncaught error in the inference worker, as a crash does. */
+  crashForTest(): void;
 }

@@ -36,6 +36,7 @@ const api = {
     sessions.delete(sessionId);
     await host?.release();
   },
+  crashForTest() { setTimeout(() => { throw new Error('injected inference-worker crash (?fault=infercrash)'); }); },
 } satisfies InferApi;
 
 // onnxruntime-web starts its threads from this script under the name "em-pthread…": those must not expose the API

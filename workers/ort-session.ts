@@ -43,6 +43,11 @@ function inference(): InferWorker {
   return inferWorker;
 }
 
+/** Test-only (`?fault=infercrash:N`): crash the inference worker; this worker then stops as described at `inference`. */
+export function crashInferenceWorkerForTest(): void {
+  void inference().api.crashForTest();
+}
+
 /** Create a session from ONNX bytes in the inference worker. Throws the raw onnxruntime message on failure. */
 export async function createOrtModel(modelBytes: ArrayBuffer, opts: { numThreads: number }): Promise<OrtModel> {
   const w = inference();

@@ -81,6 +81,17 @@ test('a worker killed mid-tile and a tile that throws are retried: every tile co
   expect(csvLines.length - 1).toBe(Object.keys(expected).length);
 });
 
+test('an inference worker that crashes takes its detector worker with it: replaced, the tile retried, counts unchanged', async ({ page }) => {
+  const workers = countDetectorWorkers(page);
+  await open(page, 'workers=2&fault=infercrash:2');
+  await runToEnd(page);
+  expect(await statAttr(page, 'failed')).toBe(0);
+  expect(await statAttr(page, 'done')).toBe(Number(/(\d+) tiles/.exec(await page.locator('[data-testid=run-message]').innerText())![1]));
+  expect(workers.n).toBe(3); // two at start, one replacing the worker whose inference worker crashed
+  expect(await tally(page, 'count')).toEqual(expected);
+  await expect(page.locator('.notice.error')).toHaveCount(0);
+});
+
 test('a tile that crashes its worker every time is tried 3 times, then reported failed and left out of coverage', async ({ page }) => {
   const workers = countDetectorWorkers(page);
   await open(page, 'workers=2&fault=crash:1');

@@ -1,5 +1,5 @@
 // Fault injection for the browser tests (issue 7), read from the address once: off unless `?fault=` is present.
-// `?fault=kill:3,throw:5,crash:7,quota,export` — numbers are the order in which tiles are first dispatched (1-based).
+// `?fault=kill:3,throw:5,crash:7,infercrash:4,quota,export` — numbers are the order in which tiles are first dispatched (1-based).
 
 export interface FaultPlan {
   /** Terminate the worker running the Nth dispatched tile while it works on it (once). */
@@ -8,6 +8,8 @@ export interface FaultPlan {
   throwAt: Set<number>;
   /** The Nth dispatched tile crashes its worker (uncaught error, never answers) on every attempt. */
   crashAt: Set<number>;
+  /** The Nth dispatched tile crashes its worker's inference worker on its first attempt (the worker is replaced). */
+  inferCrashAt: Set<number>;
   /** IndexedDB refuses to keep finished tiles with a QuotaExceededError (the disk is full). */
   quota: boolean;
   /** Building an export fails half-way (as when the tab runs out of memory). */
@@ -18,13 +20,14 @@ export interface FaultPlan {
 export function readFaultPlan(search: string): FaultPlan | null {
   const spec = new URLSearchParams(search).get('fault');
   if (!spec) return null;
-  const plan: FaultPlan = { killAt: new Set(), throwAt: new Set(), crashAt: new Set(), quota: false, exportFails: false };
+  const plan: FaultPlan = { killAt: new Set(), throwAt: new Set(), crashAt: new Set(), inferCrashAt: new Set(), quota: false, exportFails: false };
   for (const part of spec.split(',')) {
     const [name, n] = part.split(':');
     const at = Number(n);
     if (name === 'kill' && at > 0) plan.killAt.add(at);
     else if (name === 'throw' && at > 0) plan.throwAt.add(at);
     else if (name === 'crash' && at > 0) plan.crashAt.add(at);
+    else if (name === 'infercrash' && at > 0) plan.inferCrashAt.add(at);
     else if (name === 'quota') plan.quota = true;
     else if (name === 'export') plan.exportFails = true;
   }

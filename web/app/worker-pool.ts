@@ -96,6 +96,7 @@ export class DetectorPool {
     if (!f) return task;
     if (f.crashAt.has(item.ordinal)) return { ...task, fault: 'crash' };
     if (f.throwAt.has(item.ordinal) && item.attempts === 1) return { ...task, fault: 'throw' };
+    if (f.inferCrashAt.has(item.ordinal) && item.attempts === 1) return { ...task, fault: 'infer-crash' };
     return task;
   }
 
