@@ -4,7 +4,7 @@ import { toErrorInfo, SeamtallyError, type Result } from '../web/core/errors.ts'
 import { crsDefinition } from '../web/core/crs.ts';
 import { readValidMask } from '../web/core/valid-mask.ts';
 import { validateSidecar, checkModelIO, type ModelSidecar } from '../web/core/model-contract.ts';
-import { fillTile, inferTile, readTile, type FilledTile, type InferFn, type ScenePipeline, type TileScratch } from '../web/core/pipeline.ts';
+import { inferTile, readAndFillTile, type FilledTile, type InferFn, type ScenePipeline, type TileScratch } from '../web/core/pipeline.ts';
 import { modelLoadFailure } from '../web/core/model-load-failure.ts';
 import { createOrtModel, crashInferenceWorkerForTest, type OrtModel } from './ort-session.ts';
 import { openInput, SceneCache } from './scene-cache.ts';
@@ -24,7 +24,7 @@ const readAhead = new ReadAhead();
 function prepareTile(p: ScenePipeline, tileIndex: number, scratch: TileScratch): Promise<FilledTile> {
   const tile = p.plan.tiles[tileIndex];
   if (!tile) return Promise.reject(new Error(`tile ${tileIndex} does not exist (plan has ${p.plan.tiles.length})`));
-  return readTile(p, tile).then((read) => fillTile(p, tile, read, scratch));
+  return readAndFillTile(p, tile, scratch);
 }
 
 async function guard<T>(fn: () => Promise<T>, transfers: (v: T) => Transferable[] = () => []): Promise<Result<T>> {

@@ -28,7 +28,7 @@ const api = {
       const value: InferRunResult = { outputs, inputBuffer };
       return transfer({ ok: true as const, value }, [inputBuffer, ...Object.values(outputs).map((o) => o.data.buffer as ArrayBuffer)]);
     } catch (err) {
-      return transfer({ ok: false as const, error: toErrorInfo(err) }, [inputBuffer]) as never;
+      return { ok: false as const, error: toErrorInfo(err) }; // the input buffer stays here: the caller drops its tensor
     }
   },
   async release(sessionId) {

@@ -267,6 +267,11 @@ export function fillTile(p: ScenePipeline, tile: PlannedTile, read: TileRead, sc
   return { tile, hasPixels, scratch, readMs: read.readMs, resampleMs: now() - t0 };
 }
 
+/** Read phase then fill phase of a tile (the part that can run while another tile infers). */
+export async function readAndFillTile(p: ScenePipeline, tile: PlannedTile, scratch: TileScratch, signal?: AbortSignal): Promise<FilledTile> {
+  return fillTile(p, tile, await readTile(p, tile, signal), scratch);
+}
+
 /** Inference phase of a filled tile: infer, decode, core rule, ground frame. */
 export async function inferTile(p: ScenePipeline, filled: FilledTile, infer: InferFn, signal?: AbortSignal): Promise<TileResult> {
   const { tile, scratch } = filled;
@@ -343,7 +348,7 @@ export async function runScene(p: ScenePipeline, infer: InferFn, opts: RunSceneO
   let scenePxDone = 0;
   const s2 = p.plan.scale * p.plan.scale;
   const prepare = (k: number): Promise<FilledTile> => {
-    const f = readTile(p, tiles[k], opts.signal).then((read) => fillTile(p, tiles[k], read, scratches[k % scratches.length]));
+    const f = readAndFillTile(p, tiles[k], scratches[k % scratches.length], opts.signal);
     f.catch(() => undefined); // a failure surfaces when awaited; this keeps it from being reported as unhandled
     return f;
   };

@@ -76,10 +76,10 @@ export async function openNodeModel(modelBytes: Uint8Array, sidecar: ModelSideca
   return { infer, inputNames: session.inputNames, outputNames: session.outputNames, close: () => session.release() };
 }
 
-/** The CLI's session options, on this thread or on its own (ort-node-thread.mjs gets them as they are). */
 /**
- * Session options of the CLI. No memory pattern: onnxruntime would plan (and keep) one block per input shape, and
- * sized windows come in several shapes per scene; without it one 1 760² run peaks ~80 MB lower at the same speed.
+ * The CLI's session options, on this thread or on its own (ort-node-thread.mjs gets them as they are). No memory
+ * pattern: onnxruntime would plan (and keep) one block per input shape, and sized windows come in several shapes per
+ * scene; without it one 1 760² run peaks ~80 MB lower at the same speed.
  */
 function sessionOptions(threads: number): ort.InferenceSession.SessionOptions {
   return { intraOpNumThreads: threads, interOpNumThreads: 1, executionMode: 'sequential', graphOptimizationLevel: 'all', enableMemPattern: false };
