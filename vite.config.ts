@@ -52,7 +52,8 @@ function staticRanges(dirAbs: string, listSidecars = false): Connect.NextHandleF
     const fileAbs = normalize(resolve(dirAbs, '.' + urlPath));
     if (!fileAbs.startsWith(dirAbs + sep)) { res.statusCode = 403; res.end(); return; }
     if (listSidecars && urlPath === '/index.json' && !existsSync(fileAbs)) {
-      // The models folder lists its sidecars so the page can find the shipped detector by itself.
+      // The models folder lists its sidecars so the page can find the shipped detector by itself (a committed
+      // models/index.json is served as it is instead: its order is the page's, the first is the default).
       const names = existsSync(dirAbs) ? readdirSync(dirAbs).filter((f) => f.endsWith('.model.json')).sort() : [];
       for (const [k, v] of Object.entries(isolationHeaders)) res.setHeader(k, v);
       res.setHeader('Content-Type', 'application/json');

@@ -5,7 +5,7 @@
 // prepareScene picks per scene), --cache-mb N (CLI decoded-tile cache budget), --model FILE.onnx, --no-browser,
 // --no-app, --smoke (tiny scenes, seconds; for CI).
 import { spawnSync } from 'node:child_process';
-import { mkdirSync, readFileSync, statSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, readFileSync, statSync, writeFileSync } from 'node:fs';
 import { resolve, join } from 'node:path';
 import { parseArgs } from 'node:util';
 import { cpus, loadavg } from 'node:os';
@@ -111,6 +111,12 @@ if (!values['no-browser'] && haveChromium()) {
       const spec = { sceneUrl: `/demo/${file}`, modelUrl: `/models/${modelPath.split('/').pop()}`, sidecarUrl: `/models/${modelPath.split('/').pop()!.replace(/\.onnx$/, '.model.json')}`, tiles: blockTiles, tilePx: forcedTilePx, read: browserRead };
       if (!modelPath.startsWith(join(REPO, 'models/'))) log('warning: the browser loads models from models/ only; using the file of that name there');
       raw.browser[key] = await browserTiles(server, [1, 2].flatMap((workers) => [{ ...spec, workers, readAhead: false }, { ...spec, workers }]), tif);
+      const int8 = join(REPO, 'models', 'seamtally-det-int8.onnx');
+      if (k === 0 && existsSync(int8) && modelPath === join(REPO, 'models', 'seamtally-det.onnx')) {
+        log(`browser ${key}²: the int8 variant, 1 worker with read-ahead…`);
+        const r8 = await browserTiles(server, [{ ...spec, modelUrl: '/models/seamtally-det-int8.onnx', sidecarUrl: '/models/seamtally-det-int8.model.json', workers: 1 }], tif);
+        raw.browserInt8 = { model: 'seamtally-det-int8.onnx', runs: r8.runs };
+      }
     }
     log('merge in the browser (tally worker)…');
     raw.merge.browser = await browserMerge(server, mergeNs);

@@ -31,6 +31,8 @@ export interface BenchRaw {
   plans: Record<string, { default: PlanSummary; run: PlanSummary; block: { cols: number; rows: number } }>;
   cli: { block: Record<string, CliRun>; full: Record<string, CliRun> };
   browser: Record<string, { runs: TileRunFigures[]; rendererPeakRssB: number }>;
+  /** The shipped int8 variant in the browser on the small scene's block (1 worker, read-ahead), when it ships. */
+  browserInt8?: { model: string; runs: TileRunFigures[] } | null;
   merge: { node: MergeRow[]; browser: MergeRow[] };
   app: AppRunFigures | null;
   totalS?: number;
@@ -82,6 +84,8 @@ export function figures(r: BenchRaw) {
     }));
   }
   const memRuns = memRunsOf(r);
+  const int8Run = r.browserInt8?.runs.find((x) => x.workers === 1);
+  const int8 = int8Run ? throughput(int8Run.tiles, int8Run.scenePx, int8Run.wallMs, int8Run.timings, 0, 1) : null;
   const mergeGrowth = (rows: MergeRow[]) => rows.length === 2 ? { measured: rows[1].ms / rows[0].ms, nLogN: nlogn(rows[1].n) / nlogn(rows[0].n) } : null;
   const ratio = (a?: number, b?: number) => (a !== undefined && b !== undefined && b > 0 ? a / b : null);
   return {
@@ -93,6 +97,9 @@ export function figures(r: BenchRaw) {
       value: ratio(browser[small]?.['1w']?.tilesPerS, cliPiped[small]?.tilesPerS), target: '≥ 0.35', note: '1 worker / 1 thread, same tiles, both pipelined (read beside inference)',
       vsSerial: ratio(browser[small]?.['1w']?.tilesPerS, cli[small]?.tilesPerS),
       inferenceOnly: ratio(cli[small]?.msPerTile.inference, browser[small]?.['1w']?.msPerTile.inference),
+      // the shipped int8 variant in the browser against the fp32 model natively, and against fp32 in the browser
+      int8: int8 ? ratio(int8.tilesPerS, cliPiped[small]?.tilesPerS) : null,
+      int8VsFp32Browser: int8 ? ratio(int8.tilesPerS, browser[small]?.['1w']?.tilesPerS) : null,
     },
     decodeShare: { cli: cli[small]?.decodeShare ?? null, browser1w: browser[small]?.['1w']?.decodeShare ?? null },
     workerScaling: {
@@ -160,6 +167,7 @@ export function printTable(res: BenchRaw & { figures: ReturnType<typeof figures>
   line('inference share (browser 1w)', f(F.inferenceShare.browser1w), `${F.inferenceShare.target}  (read-ahead; serial inference time over its wall; as measured ${measured('1w')}, serial run ${f(F.browserSerial[small]?.['1w']?.inferenceShare)})`);
   line('inference share (browser 2w)', f(F.inferenceShare.browser2w), `${F.inferenceShare.target}  (as measured ${measured('2w')}, serial run ${f(F.browserSerial[small]?.['2w']?.inferenceShare)})`);
   line('browser vs native', f(F.browserVsNative.value), `${F.browserVsNative.target}  (both pipelined; vs the serial CLI ${f(F.browserVsNative.vsSerial)}, inference alone ${f(F.browserVsNative.inferenceOnly)})`);
+  if (F.browserVsNative.int8 !== null) line('  int8 in the browser vs native fp32', f(F.browserVsNative.int8), `(int8 / fp32 in the browser ${f(F.browserVsNative.int8VsFp32Browser)})`);
   line('decode share (CLI)', f(F.decodeShare.cli), '(small)');
   line('decode share (browser 1w)', f(F.decodeShare.browser1w), '(small)');
   line('worker scaling 2w/1w', `${f(F.workerScaling.value)}${F.workerScaling.big ? ` (${f(F.workerScaling.big)})` : ''}`, F.workerScaling.target);

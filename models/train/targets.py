@@ -46,7 +46,8 @@ def build(objs, size_px, num_classes):
         c = int(c)
         if not (0 <= cx < size_px and 0 <= cy < size_px):
             continue
-        L, W = max(L, W), min(L, W)
+        if W > L:  # the length axis is the longer side: swap and turn the axis a quarter turn with it
+            L, W, ang = W, L, ang + math.pi / 2
         fx, fy = cx / STRIDE, cy / STRIDE
         ix, iy = min(n - 1, int(fx)), min(n - 1, int(fy))
         ext = 0.5 * (L * abs(math.cos(ang)) + W * abs(math.sin(ang))), 0.5 * (L * abs(math.sin(ang)) + W * abs(math.cos(ang)))

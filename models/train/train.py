@@ -59,8 +59,18 @@ class ShardPool:
                            if len(c[1]) and ((c[1][:, 0] == 1) & (c[1][:, 6] >= 0.5)).any()]
         return self._solar
 
-    def sample(self, rng, weights, solar_frac=0.0):
-        if solar_frac > 0 and self.solar() and rng.random() < solar_frac:
+    def wide(self, min_px=20.0):
+        """Chips holding a mostly visible array whose smaller side is at least min_px (6 m at 0.3 m): flat-roof blocks."""
+        if not hasattr(self, "_wide"):
+            self._wide = [(d, c) for d, c in self.solar()
+                          if ((c[1][:, 0] == 1) & (c[1][:, 6] >= 0.5) & (np.minimum(c[1][:, 3], c[1][:, 4]) >= min_px)).any()]
+        return self._wide
+
+    def sample(self, rng, weights, solar_frac=0.0, wide_frac=0.0):
+        u = rng.random()
+        if wide_frac > 0 and self.wide() and u < wide_frac:
+            return self._wide[rng.integers(len(self._wide))]
+        if solar_frac > 0 and self.solar() and u < wide_frac + solar_frac:
             return self._solar[rng.integers(len(self._solar))]
         live = [(d, w) for d, w in zip(self.dirs, weights) if self.chips[d]]
         p = np.array([w for _, w in live], np.float64)
@@ -80,10 +90,10 @@ def focal_loss(logits, gt, ignore):
     return -(pos_l.sum() + neg_l.sum()) / torch.clamp(npos, min=1.0)
 
 
-def make_batch(pool, rng, bs, px, weights, synth_dirs, strong=False, solar_frac=0.0, shadow_p=0.0):
+def make_batch(pool, rng, bs, px, weights, synth_dirs, strong=False, solar_frac=0.0, shadow_p=0.0, wide_frac=0.0):
     xs, hms, igs, inds, regs, wts = [], [], [], [], [], []
     for _ in range(bs):
-        d, (img, objs) = pool.sample(rng, weights, solar_frac)
+        d, (img, objs) = pool.sample(rng, weights, solar_frac, wide_frac)
         if img.shape[0] > px:  # random crop of a larger chip
             ox, oy = rng.integers(0, img.shape[1] - px + 1), rng.integers(0, img.shape[0] - px + 1)
             img = img[oy:oy + px, ox:ox + px]
@@ -135,6 +145,7 @@ def main():
     ap.add_argument("--threads", type=int, default=2)
     ap.add_argument("--strong-aug", action="store_true", help="wide colour/light/blur/noise jitter on every chip")
     ap.add_argument("--solar-frac", type=float, default=0.0, help="share of chips drawn from those with arrays")
+    ap.add_argument("--wide-frac", type=float, default=0.0, help="share of chips drawn from those with a wide (>= 6 m) array")
     ap.add_argument("--shadow-p", type=float, default=0.0, help="chance of unlabelled fake cast shadows per chip")
     ap.add_argument("--warmup", type=int, default=150, help="warm-up steps")
     ap.add_argument("--freeze-bn", action="store_true",
@@ -148,6 +159,8 @@ def main():
     while sum(pool.rescan().values()) < a.bs * 4:
         print("waiting for shards ...", pool.rescan(), flush=True)
         time.sleep(10)
+    if a.wide_frac > 0 or a.solar_frac > 0:
+        print(f"chips with arrays: {len(pool.solar())}, with a wide array: {len(pool.wide())}", flush=True)
     model = SeamtallyDet()
     if a.init:
         model.load_state_dict(torch.load(a.init)["model"])
@@ -167,7 +180,7 @@ def main():
             for mod in model.modules():
                 if isinstance(mod, torch.nn.BatchNorm2d):
                     mod.eval()
-        batch = make_batch(pool, rng, a.bs, a.px, weights, set(a.synth), a.strong_aug, a.solar_frac, a.shadow_p)
+        batch = make_batch(pool, rng, a.bs, a.px, weights, set(a.synth), a.strong_aug, a.solar_frac, a.shadow_p, a.wide_frac)
         l_hm, l_size, l_off, l_ang = losses(model, batch)
         loss = l_hm + 0.5 * l_size + l_off + 0.5 * l_ang
         opt.zero_grad()

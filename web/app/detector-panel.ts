@@ -2,7 +2,7 @@
 import type { AppState, ModelEntry } from './state.ts';
 import { h, setChildren, fmt } from './dom.ts';
 import { pickFiles } from './download.ts';
-import { readModelFiles } from './model-load.ts';
+import { fetchModel, listShippedModels, readModelFiles, type ShippedModel } from './model-load.ts';
 import { toErrorInfo } from '../core/errors.ts';
 
 /** Render the detector block; `useModel` loads a model into the pool (validating it) and sets it on the state. */
@@ -15,8 +15,40 @@ export function mountDetectorPanel(state: AppState, el: HTMLElement, useModel: (
       state.events.emit('notice', { level: 'error', text: toErrorInfo(err).message });
     }
   } }, 'Use another detector (.onnx + .model.json)');
-  el.append(body, h('div.row', {}, other));
+  // a choice of the shipped detectors when there are several (e.g. full precision and int8)
+  const choice = h('select', { 'aria-label': 'Shipped detector', dataset: { testid: 'model-choice' }, hidden: true, onchange: async () => {
+    const url = (choice as HTMLSelectElement).value;
+    if (!url || url === state.model?.url) return;
+    (choice as HTMLSelectElement).disabled = true; // until the new model is in every worker
+    try {
+      await useModel(await fetchModel(url, 'shipped'));
+      rememberShippedChoice(url);
+    } catch (err) {
+      state.events.emit('notice', { level: 'error', text: toErrorInfo(err).message });
+    } finally {
+      render();
+    }
+  } }) as HTMLSelectElement;
+  let shipped: ShippedModel[] = [];
+  const choiceHint = h('div.muted', { dataset: { testid: 'model-choice-summary' } });
+  el.append(body, h('div.row', {}, choice), choiceHint, h('div.row', {}, other));
   const render = () => {
+    const cur = state.model;
+    choice.hidden = shipped.length < 2;
+    // the detector is part of a run's key: it cannot change under a running one
+    const busy = state.progress.status === 'running' || state.progress.status === 'merging';
+    choice.disabled = busy;
+    (other as HTMLButtonElement).disabled = busy;
+    if (shipped.length >= 2) {
+      setChildren(choice, ...shipped.map((m) => h('option', { value: m.url }, m.version ? `${m.name} (version ${m.version})` : m.name)),
+        ...(cur && cur.origin !== 'shipped' ? [h('option', { value: '' }, cur.origin === 'user' ? 'your model' : 'test fixture')] : []));
+      choice.value = cur?.origin === 'shipped' && cur.url ? cur.url : '';
+      const sel = shipped.find((m) => m.url === choice.value);
+      choiceHint.textContent = sel?.summary ?? '';
+    } else choiceHint.textContent = '';
+    renderInfo();
+  };
+  const renderInfo = () => {
     const m = state.model;
     if (!m) { setChildren(body, h('div.muted', {}, 'Loading the detector…')); return; }
     const sc = m.sidecar;
@@ -28,5 +60,19 @@ export function mountDetectorPanel(state: AppState, el: HTMLElement, useModel: (
     );
   };
   state.events.on('model-changed', render);
+  state.events.on('run-progress', render);
   render();
+  void listShippedModels().then((list) => { shipped = list; render(); });
+}
+
+/** The localStorage key that keeps the analyst's choice of shipped detector across reloads. */
+export const DETECTOR_CHOICE_KEY = 'seamtally.detector';
+
+function rememberShippedChoice(url: string): void {
+  try { localStorage.setItem(DETECTOR_CHOICE_KEY, url); } catch { /* storage off: the choice lasts this session */ }
+}
+
+/** The shipped detector chosen in an earlier session, if any. */
+export function rememberedShippedChoice(): string | undefined {
+  try { return localStorage.getItem(DETECTOR_CHOICE_KEY) ?? undefined; } catch { return undefined; }
 }

@@ -15,7 +15,7 @@ import { mountNotices } from './notices.ts';
 import { cautionStrip } from './cautions.ts';
 import { mountImageryPanel } from './imagery-panel.ts';
 import { mountAoiPanel } from './aoi-panel.ts';
-import { mountDetectorPanel } from './detector-panel.ts';
+import { mountDetectorPanel, rememberedShippedChoice } from './detector-panel.ts';
 import { mountRunPanel } from './run-panel.ts';
 import { mountTallyPanel } from './tally-panel.ts';
 import { mountComparePanel } from './compare-panel.ts';
@@ -79,7 +79,8 @@ async function main(): Promise<void> {
   await restoreKeptWork(state);
   const demo = await fetchManifest(config.manifestUrl);
   try {
-    await useModel(await fetchDefaultModel(config.modelUrl ?? demo?.modelUrl ?? undefined));
+    // an explicit ?model= first, then the shipped detector chosen in an earlier session, then the demo's, then the default
+    await useModel(await fetchDefaultModel(config.modelUrl ?? rememberedShippedChoice() ?? demo?.modelUrl ?? undefined));
   } catch (err) {
     state.events.emit('notice', { level: 'error', text: toErrorInfo(err).message });
   }

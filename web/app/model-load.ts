@@ -27,20 +27,40 @@ export async function fetchModel(sidecarUrl: string, origin: ModelEntry['origin'
   const cardRes = origin === 'shipped' ? await fetchOk(base + cardName) : null;
   const card = cardRes && /markdown|text\/plain/.test(cardRes.headers.get('Content-Type') ?? '') ? await cardRes.text() : null;
   const name = sidecar.name ?? sidecarUrl.split('/').pop()!.replace(/\.model\.json$/, '');
-  return { name, origin, bytes, sidecar, card };
+  return { name, origin, bytes, sidecar, card, url: sidecarUrl };
 }
 
-/** The shipped detector: the first sidecar listed at /models/index.json, else the test fixture model. */
+/** A shipped detector as listed at /models/index.json (the first one is the default). */
+export interface ShippedModel { url: string; name: string; version?: string; summary?: string }
+
+/** The sidecar URLs listed at /models/index.json, in its order. */
+async function shippedSidecarUrls(): Promise<string[]> {
+  const listRes = await fetchOk('/models/index.json');
+  if (!listRes) return [];
+  let list: unknown;
+  try { list = await listRes.json(); } catch { return []; }
+  return Array.isArray(list) ? list.filter((f): f is string => typeof f === 'string' && f.endsWith('.model.json')).map((f) => `/models/${f}`) : [];
+}
+
+/** The shipped detectors whose sidecars read and validate (the page offers a choice when there are several). */
+export async function listShippedModels(): Promise<ShippedModel[]> {
+  const out: ShippedModel[] = [];
+  for (const url of await shippedSidecarUrls()) {
+    const res = await fetchOk(url);
+    if (!res) continue;
+    try {
+      const sc = parseSidecar(await res.text());
+      out.push({ url, name: sc.name ?? url.split('/').pop()!.replace(/\.model\.json$/, ''), version: sc.version, summary: sc.summary });
+    } catch { /* an invalid sidecar is reported when it is chosen, not listed */ }
+  }
+  return out;
+}
+
+/** The detector to start with: `preferred` when it loads, else the first listed at /models/index.json, else the test fixture model. */
 export async function fetchDefaultModel(preferred?: string): Promise<ModelEntry> {
   const candidates: Array<[string, ModelEntry['origin']]> = [];
   if (preferred) candidates.push([preferred, preferred.startsWith('/models/') ? 'shipped' : 'fixture']);
-  const listRes = await fetchOk('/models/index.json');
-  if (listRes) {
-    const list = (await listRes.json()) as unknown;
-    if (Array.isArray(list)) {
-      for (const f of list) if (typeof f === 'string' && f.endsWith('.model.json')) candidates.push([`/models/${f}`, 'shipped']);
-    }
-  }
+  for (const url of await shippedSidecarUrls()) candidates.push([url, 'shipped']);
   candidates.push(['/fixtures/fixture-model.model.json', 'fixture']);
   let last: unknown = null;
   for (const [url, origin] of candidates) {

@@ -48,6 +48,8 @@ export interface ModelEntry {
   sidecar: ModelSidecar;
   /** Model card text (markdown), when found beside the model. */
   card: string | null;
+  /** The sidecar URL a shipped or fixture model was read from (absent for the analyst's own files). */
+  url?: string;
 }
 
 /** Merged detections of one date (all scenes of that date), scores ≥ the run's floor. */

@@ -8,6 +8,8 @@ import { SeamtallyError } from './errors.ts';
  *   "format": "seamtally-model/1",                 required, exactly this string
  *   "name": "…", "version": "…",                   optional strings
  *   "card": "models/README.md",                    optional string: path of the model card
+ *   "summary": "…",                                optional string: one line on what sets this model apart
+ *                                                  (shown where the page offers a choice of shipped detectors)
  *   "classes": ["vehicle", "solar_panel"],         required, 1–255 unique non-empty strings; class index = position
  *   "inputGsdM": 0.3,                              required, metres per input pixel, 0 < g ≤ 10
  *   "tilePx": 512,                                 required, square input size, integer 32–4096
@@ -82,6 +84,8 @@ export interface ModelSidecar {
   name?: string;
   version?: string;
   card?: string;
+  /** One line on what sets this model apart (the page's detector choice shows it). */
+  summary?: string;
   classes: string[];
   inputGsdM: number;
   tilePx: number;
@@ -209,6 +213,7 @@ export function validateSidecar(value: unknown): ModelSidecar {
   const name = optStr(s.name, 'name'); if (name !== undefined) out.name = name;
   const version = optStr(s.version, 'version'); if (version !== undefined) out.version = version;
   const card = optStr(s.card, 'card'); if (card !== undefined) out.card = card;
+  const summary = optStr(s.summary, 'summary'); if (summary !== undefined) out.summary = summary;
   if (s.minScore !== undefined) {
     out.minScore = num(s.minScore, 'minScore', 0, 1, 'a number between 0 and 1');
     if (out.minScore <= 0 || out.minScore >= 1) fail('minScore', 'a number between 0 and 1 (exclusive)');

@@ -8,7 +8,7 @@ import { SeamtallyError } from '../../../web/core/errors.ts';
 import { maxPool3Bytes } from './onnx-nms-model.ts';
 
 const VALID = {
-  format: 'seamtally-model/1', name: 'tiny', version: '1.0.0', card: 'models/README.md',
+  format: 'seamtally-model/1', name: 'tiny', version: '1.0.0', card: 'models/README.md', summary: 'a tiny test model',
   classes: ['vehicle', 'solar_panel'], inputGsdM: 0.3, tilePx: 512,
   input: { name: 'image', bands: 'rgb', scale: 0.00392156862745098, mean: [0, 0, 0], std: [1, 1, 1] },
   output: { layout: 'center-heatmap', stride: 4, heatmap: 'hm', size: 'wh', offset: 'reg', angle: null },
@@ -33,12 +33,14 @@ describe('parseSidecar', () => {
     expect(sc.classes).toEqual(['vehicle', 'solar_panel']);
     expect(sc.output).toEqual(VALID.output);
     expect(sc.objects?.vehicle.maxExtentM).toBe(7);
+    expect(sc.summary).toBe('a tiny test model');
     expect(sidecarOutputNames(sc)).toEqual(['hm', 'wh', 'reg']);
     const b = clone(); b.output = { layout: 'boxes', boxes: 'det' };
     expect(parseSidecar(JSON.stringify(b)).output).toEqual({ layout: 'boxes', boxes: 'det' });
   });
   const BAD: Array<[string, (s: any) => void]> = [
     ['format', (s) => { s.format = 'seamtally-model/2'; }],
+    ['summary', (s) => { s.summary = 3; }],
     ['classes', (s) => { s.classes = []; }],
     ['classes', (s) => { s.classes = ['a', 'a']; }],
     ['inputGsdM', (s) => { s.inputGsdM = -0.3; }],

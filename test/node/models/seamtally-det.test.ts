@@ -1,5 +1,6 @@
 // The shipped detector: its sidecar passes the contract, onnxruntime loads it, and its outputs have the contract's shapes.
-import { readFileSync, statSync } from 'node:fs';
+import { readdirSync, readFileSync, statSync } from 'node:fs';
+import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import * as ort from 'onnxruntime-node';
 import { checkModelIO, parseSidecar } from '../../../web/core/model-contract.ts';
@@ -42,5 +43,57 @@ describe('models/seamtally-det', () => {
       expect(Math.max(...ang.map(Math.abs))).toBeLessThanOrEqual(Math.PI / 2 + 1e-6);
     }
     await s.release();
+  });
+});
+
+// Every shipped detector: models/index.json (the page's list, first = default) names each sidecar in models/ once,
+// and each passes the contract and loads. A quantized variant ships only under the rule of the performance issue:
+// AP@0.5 at most 1 point below the full-precision model's, per class and per GSD, on the same evaluation scenes
+// (its eval report is committed beside the model's own, both written by `seamtally eval`).
+describe('models/index.json and the int8 variant', () => {
+  const listed = JSON.parse(readFileSync('models/index.json', 'utf8')) as string[];
+
+  it('lists every sidecar under models/ once, the full-precision detector first', () => {
+    const present = readdirSync('models').filter((f) => f.endsWith('.model.json')).sort();
+    expect([...listed].sort()).toEqual(present);
+    expect(new Set(listed).size).toBe(listed.length);
+    expect(listed[0]).toBe('seamtally-det.model.json');
+  });
+
+  it('each listed detector passes the contract, is at most 4 MB and loads in onnxruntime-node', async () => {
+    for (const f of listed) {
+      const s = parseSidecar(readFileSync(join('models', f), 'utf8'));
+      const onnx = join('models', f.replace(/\.model\.json$/, '.onnx'));
+      expect(statSync(onnx).size).toBeLessThan(4 * 1024 * 1024);
+      const session = await ort.InferenceSession.create(readFileSync(onnx), { intraOpNumThreads: 1 });
+      checkModelIO(s, { inputNames: session.inputNames, outputNames: session.outputNames });
+      await session.release();
+    }
+  });
+
+  const INT8 = 'seamtally-det-int8.model.json';
+  it.runIf(listed.includes(INT8))('int8: same version and threshold as the model it quantizes, AP@0.5 loss ≤ 1 point per class and GSD', () => {
+    const fp = parseSidecar(readFileSync(SIDECAR, 'utf8'));
+    const q = parseSidecar(readFileSync(join('models', INT8), 'utf8'));
+    expect(q.version).toBe(`${fp.version}-int8`);
+    expect(q.minScore).toBe(fp.minScore);
+    expect(q.classes).toEqual(fp.classes);
+    interface Report { scenesDir: string; operatingMinScore: number; overall: Record<string, { ap50: number }>; byGsd: Array<{ gsdM: number; classes: Record<string, { ap50: number }> }> }
+    const a = JSON.parse(readFileSync('models/seamtally-det.eval.json', 'utf8')) as Report;
+    const b = JSON.parse(readFileSync('models/seamtally-det-int8.eval.json', 'utf8')) as Report;
+    expect(b.scenesDir).toBe(a.scenesDir);
+    expect(b.operatingMinScore).toBe(a.operatingMinScore);
+    for (const c of fp.classes) {
+      expect(b.overall[c].ap50, `${c} overall`).toBeGreaterThanOrEqual(a.overall[c].ap50 - 0.01);
+      for (const g of a.byGsd) {
+        const h = b.byGsd.find((x) => x.gsdM === g.gsdM);
+        expect(h, `GSD ${g.gsdM}`).toBeDefined();
+        expect(h!.classes[c].ap50, `${c} at ${g.gsdM} m`).toBeGreaterThanOrEqual(g.classes[c].ap50 - 0.01);
+      }
+    }
+    // its caveats come from its own measured curve (its eval report's recall per GSD), not a copy of the fp32 one
+    for (const c of fp.classes) {
+      expect(q.quality?.recall?.[c], c).toEqual(q.quality!.gsdM.map((g) => (b.byGsd.find((x) => x.gsdM === g)!.classes[c] as unknown as { recall: number }).recall));
+    }
   });
 });
