@@ -136,12 +136,13 @@ export interface TileScratch {
   tilePx: number;
   tensor: Float32Array;
   valid: Uint8Array;
-  plane: Float32Array;
+  /** One band at the window's own size, for windows smaller than the input (a fixed-input model at a scene edge); made on first use. */
+  plane: Float32Array | null;
 }
 
 /** Buffers for a plan's tiles: `createTileScratch(plan.tilePx)` holds every window of the plan. */
 export function createTileScratch(tilePx: number): TileScratch {
-  return { tilePx, tensor: new Float32Array(3 * tilePx * tilePx), valid: new Uint8Array(tilePx * tilePx), plane: new Float32Array(tilePx * tilePx) };
+  return { tilePx, tensor: new Float32Array(3 * tilePx * tilePx), valid: new Uint8Array(tilePx * tilePx), plane: null };
 }
 
 export interface TileTimings { readMs: number; resampleMs: number; inferMs: number; decodeMs: number }
@@ -191,7 +192,7 @@ export function fillTensor(p: ScenePipeline, tile: PlannedTile, win: RasterWindo
   for (let c = 0; c < 3; c++) {
     const dstPlane = tensor.subarray(c * plane, (c + 1) * plane);
     if (c > 0 && idx[c] === idx[c - 1] && dense) { dstPlane.set(tensor.subarray((c - 1) * plane, c * plane)); continue; }
-    const out = dense ? dstPlane : scratch.plane.subarray(0, ow * oh);
+    const out = dense ? dstPlane : (scratch.plane ??= new Float32Array(scratch.tilePx * scratch.tilePx)).subarray(0, ow * oh);
     const vmask = dense ? valid : new Uint8Array(ow * oh);
     resampleBand(win.bands[idx[c]], rp, out, { nodata: win.nodata, validOut: c === 0 ? vmask : undefined });
     if (!dense) {

@@ -21,26 +21,24 @@ if (session) {
     kind: 'ready', inputNames: [...session.inputNames], outputNames: [...session.outputNames],
     inputMetadata: meta(session.inputMetadata), outputMetadata: meta(session.outputMetadata),
   });
-  // onnxruntime-node does not take typed arrays on shared memory: each input is copied into this thread's own
-  // buffer (reused while it is large enough)
-  let own = new Float32Array(0);
+  // each input arrives in an ArrayBuffer transferred from the JS thread (onnxruntime-node does not take typed arrays
+  // on shared memory) and goes back with the result, so the JS thread reuses it: no copy here
   parentPort.on('message', async (m) => {
     if (m.kind === 'close') {
       await session.release();
       parentPort.close();
       return;
     }
+    const buffer = m.buffer;
     try {
-      if (own.length < m.length) own = new Float32Array(m.length);
-      const input = own.length === m.length ? own : own.subarray(0, m.length);
-      input.set(new Float32Array(m.shared, 0, m.length));
+      const input = new Float32Array(buffer, 0, m.length);
       const res = await session.run({ [m.inputName]: new ort.Tensor('float32', input, m.dims) });
       // outputs are small (a quarter of the tile per channel at stride 4): copied, not transferred (their buffers
       // belong to onnxruntime-node)
       const outputs = Object.entries(res).map(([name, t]) => ({ name, type: t.type, dims: [...t.dims], data: t.data }));
-      parentPort.postMessage({ kind: 'result', id: m.id, outputs });
+      parentPort.postMessage({ kind: 'result', id: m.id, outputs, buffer }, [buffer]);
     } catch (err) {
-      parentPort.postMessage({ kind: 'run-failed', id: m.id, message: errorText(err) });
+      parentPort.postMessage({ kind: 'run-failed', id: m.id, message: errorText(err), buffer }, [buffer]);
     }
   });
 }

@@ -105,17 +105,22 @@ async function openLocalSession(modelBytes: Uint8Array, threads: number): Promis
   };
 }
 
-/** Messages from ort-node-thread.mjs (to it: { kind: 'run', id, inputName, shared, length, dims } and { kind: 'close' }). */
+/**
+ * Messages from ort-node-thread.mjs (to it: { kind: 'run', id, inputName, buffer, length, dims } with the buffer
+ * transferred, and { kind: 'close' }); a run's answer transfers its input buffer back.
+ */
 type FromThread =
   | { kind: 'ready'; inputNames: string[]; outputNames: string[]; inputMetadata: MetaLike[]; outputMetadata: MetaLike[] }
   | { kind: 'load-failed'; message: string }
-  | { kind: 'result'; id: number; outputs: Array<{ name: string; type: string; data: unknown; dims: number[] }> }
-  | { kind: 'run-failed'; id: number; message: string };
+  | { kind: 'result'; id: number; outputs: Array<{ name: string; type: string; data: unknown; dims: number[] }>; buffer: ArrayBuffer }
+  | { kind: 'run-failed'; id: number; message: string; buffer: ArrayBuffer };
 
 async function openThreadSession(modelBytes: Uint8Array, threads: number): Promise<SessionLike> {
   const bytes = modelBytes.slice().buffer; // the thread gets its own copy
   const worker = new Worker(new URL('./ort-node-thread.mjs', import.meta.url), { workerData: { modelBytes: bytes, options: sessionOptions(threads) }, transferList: [bytes] });
   const pending = new Map<number, { resolve: (v: FromThread & { kind: 'result' }) => void; reject: (e: unknown) => void }>();
+  // buffers for inputs, transferred to the thread and back with each answer (one per run in flight), reused
+  const free: ArrayBuffer[] = [];
   let failure: Error | null = null;
   const failAll = (err: Error) => {
     failure ??= err;
@@ -127,6 +132,7 @@ async function openThreadSession(modelBytes: Uint8Array, threads: number): Promi
       if (m.kind === 'ready') resolve(m);
       else if (m.kind === 'load-failed') reject(modelLoadFailure(new Error(m.message), modelBytes.length));
       else {
+        if (m.buffer) free.push(m.buffer);
         const p = pending.get(m.id);
         if (!p) return;
         pending.delete(m.id);
@@ -148,8 +154,6 @@ async function openThreadSession(modelBytes: Uint8Array, threads: number): Promi
     await worker.terminate();
     throw err;
   }
-  // shared buffers for inputs on their way to the thread, reused (one per run in flight)
-  const free: SharedArrayBuffer[] = [];
   let nextId = 1;
   let closed = false;
   return {
@@ -159,18 +163,14 @@ async function openThreadSession(modelBytes: Uint8Array, threads: number): Promi
       if (failure) throw failure;
       const bytesNeeded = input.length * 4;
       const k = free.findIndex((b) => b.byteLength >= bytesNeeded);
-      const shared = k >= 0 ? free.splice(k, 1)[0] : new SharedArrayBuffer(bytesNeeded);
-      new Float32Array(shared, 0, input.length).set(input);
+      const buffer = k >= 0 ? free.splice(k, 1)[0] : new ArrayBuffer(bytesNeeded);
+      new Float32Array(buffer, 0, input.length).set(input);
       const id = nextId++;
-      try {
-        const res = await new Promise<FromThread & { kind: 'result' }>((resolve, reject) => {
-          pending.set(id, { resolve, reject });
-          worker.postMessage({ kind: 'run', id, inputName, shared, length: input.length, dims: [...dims] });
-        });
-        return res.outputs;
-      } finally {
-        free.push(shared);
-      }
+      const res = await new Promise<FromThread & { kind: 'result' }>((resolve, reject) => {
+        pending.set(id, { resolve, reject });
+        worker.postMessage({ kind: 'run', id, inputName, buffer, length: input.length, dims: [...dims] }, [buffer]);
+      });
+      return res.outputs;
     },
     async release() {
       if (closed) return;
