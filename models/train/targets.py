@@ -33,8 +33,9 @@ def draw_gaussian(hm, cx, cy, radius):
     np.maximum(hm[y0:y1, x0:x1], g, out=hm[y0:y1, x0:x1])
 
 
-def build(objs, size_px, num_classes):
-    """objs: float32 [M,7] class, cx, cy, length, width, angle, visible (input px). Returns a dict of arrays."""
+def build(objs, size_px, num_classes, size_w=None):
+    """objs: float32 [M,7] class, cx, cy, length, width, angle, visible (input px); size_w: weight of the size loss per
+    class (default 1 for all). Returns a dict of arrays."""
     n = size_px // STRIDE
     hm = np.zeros((num_classes, n, n), np.float32)
     ignore = np.zeros((num_classes, n, n), np.float32)
@@ -60,7 +61,7 @@ def build(objs, size_px, num_classes):
         if k < MAX_OBJ:
             ind[k] = iy * n + ix
             reg[k] = [math.log(L), math.log(max(W, 0.5)), fx - ix, fy - iy, math.cos(2 * ang), math.sin(2 * ang)]
-            wt[k] = [1.0, 1.0, min(1.0, 2.0 * (L / max(W, 1e-3) - 1.0))]
+            wt[k] = [size_w[c] if size_w else 1.0, 1.0, min(1.0, 2.0 * (L / max(W, 1e-3) - 1.0))]
             k += 1
     ignore[hm >= 0.999] = 0
     return {"hm": hm, "ignore": ignore, "ind": ind, "reg": reg, "wt": wt}

@@ -90,7 +90,7 @@ def focal_loss(logits, gt, ignore):
     return -(pos_l.sum() + neg_l.sum()) / torch.clamp(npos, min=1.0)
 
 
-def make_batch(pool, rng, bs, px, weights, synth_dirs, strong=False, solar_frac=0.0, shadow_p=0.0, wide_frac=0.0):
+def make_batch(pool, rng, bs, px, weights, synth_dirs, strong=False, solar_frac=0.0, shadow_p=0.0, wide_frac=0.0, size_w=None):
     xs, hms, igs, inds, regs, wts = [], [], [], [], [], []
     for _ in range(bs):
         d, (img, objs) = pool.sample(rng, weights, solar_frac, wide_frac)
@@ -108,7 +108,7 @@ def make_batch(pool, rng, bs, px, weights, synth_dirs, strong=False, solar_frac=
             img = strong_jitter(img, rng)
         elif d in synth_dirs:
             img = jitter(img, rng)
-        t = build(objs, px, len(CLASSES))
+        t = build(objs, px, len(CLASSES), size_w)
         xs.append(img.transpose(2, 0, 1) / 255.0)
         hms.append(t["hm"]); igs.append(t["ignore"]); inds.append(t["ind"]); regs.append(t["reg"]); wts.append(t["wt"])
     f = lambda a: torch.from_numpy(np.stack(a))  # noqa: E731
@@ -123,7 +123,7 @@ def losses(model, batch):
     pred = out_reg.view(n, c, h * w).gather(2, ind.unsqueeze(1).expand(n, c, MAX_OBJ)).permute(0, 2, 1)
     m = (wt[..., 0] > 0).float()
     denom = torch.clamp(m.sum(), min=1.0)
-    l_size = (F.l1_loss(pred[..., 0:2], reg[..., 0:2], reduction="none").sum(-1) * m).sum() / denom
+    l_size = (F.l1_loss(pred[..., 0:2], reg[..., 0:2], reduction="none").sum(-1) * wt[..., 0]).sum() / denom
     l_off = (F.l1_loss(pred[..., 2:4], reg[..., 2:4], reduction="none").sum(-1) * m).sum() / denom
     l_ang = (F.l1_loss(pred[..., 4:6], reg[..., 4:6], reduction="none").sum(-1) * wt[..., 2]).sum() / denom
     return l_hm, l_size, l_off, l_ang
@@ -146,6 +146,7 @@ def main():
     ap.add_argument("--strong-aug", action="store_true", help="wide colour/light/blur/noise jitter on every chip")
     ap.add_argument("--solar-frac", type=float, default=0.0, help="share of chips drawn from those with arrays")
     ap.add_argument("--wide-frac", type=float, default=0.0, help="share of chips drawn from those with a wide (>= 6 m) array")
+    ap.add_argument("--solar-size-w", type=float, default=1.0, help="weight of the size loss of solar_panel objects (vehicles: 1)")
     ap.add_argument("--shadow-p", type=float, default=0.0, help="chance of unlabelled fake cast shadows per chip")
     ap.add_argument("--warmup", type=int, default=150, help="warm-up steps")
     ap.add_argument("--freeze-bn", action="store_true",
@@ -180,7 +181,7 @@ def main():
             for mod in model.modules():
                 if isinstance(mod, torch.nn.BatchNorm2d):
                     mod.eval()
-        batch = make_batch(pool, rng, a.bs, a.px, weights, set(a.synth), a.strong_aug, a.solar_frac, a.shadow_p, a.wide_frac)
+        batch = make_batch(pool, rng, a.bs, a.px, weights, set(a.synth), a.strong_aug, a.solar_frac, a.shadow_p, a.wide_frac, [1.0, a.solar_size_w])
         l_hm, l_size, l_off, l_ang = losses(model, batch)
         loss = l_hm + 0.5 * l_size + l_off + 0.5 * l_ang
         opt.zero_grad()
