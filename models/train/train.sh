@@ -3,10 +3,11 @@
 # generate procedural chips, train seamtally-det from scratch on the CPU in four stages, export the ONNX + sidecar,
 # then evaluate on held-out scenes and store the quality curves in the sidecar. Uses Debian's system python3 with
 # python3-torch / python3-onnx (apt-get install -y python3-torch python3-onnx). Not part of CI.
-# This is the recipe that made the shipped model (stage minutes as run: 21 + 24 + 14 + 20 + 50 + 70 + 70; stages 5, 6
-# and 7 were run as fine-tunes of the shipped versions 2, 3 and 4, rebuilt by from_onnx.py). Environment: WORK
-# (default models/train/work), THREADS (2), STAGE1_MIN … STAGE7_MIN (21 / 24 / 14 / 20 / 50 / 70 / 70), MIN_SCORE
-# (0.38, chosen by best F1 on the validation scenes: vehicle 0.38, solar_panel 0.34 for version 5).
+# This is the recipe that made the shipped model (stage minutes as run: 21 + 24 + 14 + 20 + 50 + 70 + 70 + 10 + 55;
+# stages 5, 6, 7 and 8 were run as fine-tunes of the shipped versions 2, 3, 4 and 5, rebuilt by from_onnx.py).
+# Environment: WORK (default models/train/work), THREADS (2), STAGE1_MIN … STAGE7_MIN, STAGE8A_MIN, STAGE8B_MIN
+# (21 / 24 / 14 / 20 / 50 / 70 / 70 / 10 / 55), MIN_SCORE (0.37, chosen by best F1 on the validation scenes:
+# vehicle 0.37, solar_panel 0.30 for version 6).
 set -euo pipefail
 cd "$(dirname "$0")/../.."
 PY=/usr/bin/python3
@@ -65,14 +66,26 @@ $T --sources "$WORK/synth" "$WORK/synth-lowsun" "$WORK/proc" --weights 0.25 0.45
 # (as run for version 5: from version 4's weights, the second seed's 12 procedural shards, ~7 000 steps)
 $T --sources "$WORK/synth" "$WORK/synth-lowsun" "$WORK/synth-lowsun2" "$WORK/proc" --weights 0.25 0.25 0.2 0.3 \
   --synth "$WORK/synth" "$WORK/synth-lowsun" "$WORK/synth-lowsun2" --init "$WORK/stage6.pt" --freeze-bn --lr 1.5e-4 --warmup 30 \
-  --minutes "${STAGE7_MIN:-70}" --strong-aug --solar-frac 0.3 --shadow-p 0.5 --seed 17 --ckpt "$WORK/model.pt"
+  --minutes "${STAGE7_MIN:-70}" --strong-aug --solar-frac 0.3 --shadow-p 0.5 --seed 17 --ckpt "$WORK/stage7.pt"
+# stage 8 (version 6): arrays. 8a: training targets now turn the axis a quarter turn when an array's width exceeds its
+# length, and a tenth of the chips hold a wide (>= 6 m) array; 8b: a quarter of the chips hold one and the arrays'
+# size loss weighs 3x (the network had learnt a near-constant ~4 m width for arrays: no flat-roof block was ever
+# boxed right)
+$T --sources "$WORK/synth" "$WORK/synth-lowsun" "$WORK/synth-lowsun2" "$WORK/proc" --weights 0.25 0.25 0.2 0.3 \
+  --synth "$WORK/synth" "$WORK/synth-lowsun" "$WORK/synth-lowsun2" --init "$WORK/stage7.pt" --freeze-bn --lr 1.5e-4 --warmup 30 \
+  --minutes "${STAGE8A_MIN:-10}" --strong-aug --solar-frac 0.25 --wide-frac 0.1 --shadow-p 0.5 --seed 23 --ckpt "$WORK/stage8a.pt"
+$T --sources "$WORK/synth" "$WORK/synth-lowsun" "$WORK/synth-lowsun2" "$WORK/proc" --weights 0.25 0.25 0.2 0.3 \
+  --synth "$WORK/synth" "$WORK/synth-lowsun" "$WORK/synth-lowsun2" --init "$WORK/stage8a.pt" --freeze-bn --lr 1.5e-4 --warmup 30 \
+  --minutes "${STAGE8B_MIN:-55}" --strong-aug --solar-frac 0.15 --wide-frac 0.25 --solar-size-w 3 --shadow-p 0.5 --seed 29 \
+  --ckpt "$WORK/model.pt"
 # 4. ship: ONNX + sidecar; the validation scenes (seeds 5001-5004) show the best-F1 threshold
-$PY models/train/finalize.py "$WORK/model.pt" --min-score "${MIN_SCORE:-0.38}" --version 5
+$PY models/train/finalize.py "$WORK/model.pt" --min-score "${MIN_SCORE:-0.37}" --version 6
 $ST eval --model models/seamtally-det.onnx --scenes "$WORK/scenes-val" --out "$WORK/val.json" --quiet
 # 5. held-out evaluation → quality curves in the sidecar; tiling invariance on a 4000 x 4000 scene
 EVAL_SET="10 held-out synthesizer scenes (models/train/make-scenes.ts eval): seeds 9001-9010, 2 per GSD 0.15/0.3/0.45/0.6/0.8 m, business-park (not in training) and town, Oct-Feb dates, all band layouts and bit depths; never used in training"
 $TSX models/train/make-scenes.ts eval "$WORK/scenes-eval" 10
 $ST eval --model models/seamtally-det.onnx --scenes "$WORK/scenes-eval" --out "$WORK/eval.json" --write-quality --eval-set "$EVAL_SET"
+cp "$WORK/eval.json" models/seamtally-det.eval.json
 # the fresh set: look once per model version, never to choose anything
 $TSX models/train/make-scenes.ts fresh "$WORK/scenes-fresh" 20
 $ST eval --model models/seamtally-det.onnx --scenes "$WORK/scenes-fresh" --out "$WORK/fresh.json" --quiet
@@ -81,4 +94,11 @@ for px in 1024 1280 1536; do
   $ST eval --model models/seamtally-det.onnx --scenes "$WORK/scenes-tiling" --tile $px --out "$WORK/tiling-$px.json" --quiet
 done
 $TSX models/train/tile-speed.ts models/seamtally-det.onnx 20
+# 6. the int8 variant, into the work folder: it ships (copied to models/ with its eval report, and listed in
+#    models/index.json) only while its AP@0.5 is within 1 point of the fp32 model's per class and GSD;
+#    test/node/models/seamtally-det.test.ts checks the two committed reports. Version 6's int8 fails for solar_panel
+#    (model card), so it is not shipped
+mkdir -p "$WORK/int8"
+$PY models/train/quantize.py --out "$WORK/int8/seamtally-det-int8.onnx"
+$ST eval --model "$WORK/int8/seamtally-det-int8.onnx" --scenes "$WORK/scenes-eval" --out "$WORK/int8/seamtally-det-int8.eval.json" --write-quality --eval-set "$EVAL_SET"
 echo "done: models/seamtally-det.onnx, models/seamtally-det.model.json, $WORK/eval.json"

@@ -8,7 +8,7 @@ const fixture = JSON.parse(readFileSync('test/fixtures/fixture-model.model.json'
 const sidecarOf = (name: string, summary?: string) => JSON.stringify({ ...fixture, name, version: '1', summary });
 
 /** A fake server: path → body (string or bytes); anything else 404. */
-function serve(files: Record<string, string | Uint8Array>): void {
+function serve(files: Record<string, string | Uint8Array<ArrayBuffer>>): void {
   vi.stubGlobal('fetch', async (url: string) => {
     const body = files[url];
     if (body === undefined) return new Response('not found', { status: 404 });

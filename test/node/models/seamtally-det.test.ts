@@ -1,5 +1,5 @@
 // The shipped detector: its sidecar passes the contract, onnxruntime loads it, and its outputs have the contract's shapes.
-import { readdirSync, readFileSync, statSync } from 'node:fs';
+import { existsSync, readdirSync, readFileSync, statSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import * as ort from 'onnxruntime-node';
@@ -72,7 +72,13 @@ describe('models/index.json and the int8 variant', () => {
   });
 
   const INT8 = 'seamtally-det-int8.model.json';
-  it.runIf(listed.includes(INT8))('int8: same version and threshold as the model it quantizes, AP@0.5 loss ≤ 1 point per class and GSD', () => {
+  it('int8, when it ships: same version and threshold as the model it quantizes, AP@0.5 loss ≤ 1 point per class and GSD', () => {
+    if (!listed.includes(INT8)) {
+      // not shipped (version 6's int8 fails the rule for solar_panel, models/README.md): no int8 file lies in models/
+      expect(existsSync(join('models', INT8.replace(/\.model\.json$/, '.onnx')))).toBe(false);
+      expect(existsSync('models/seamtally-det-int8.eval.json')).toBe(false);
+      return;
+    }
     const fp = parseSidecar(readFileSync(SIDECAR, 'utf8'));
     const q = parseSidecar(readFileSync(join('models', INT8), 'utf8'));
     expect(q.version).toBe(`${fp.version}-int8`);
