@@ -16,7 +16,8 @@ export interface NodeModelOptions {
   tilePx?: number;
   /**
    * Run the session on its own thread (default true): `infer` then returns at once to the event loop and the JS
-   * thread is free while the tile infers; each input is copied once into a buffer that is transferred to the thread and back (a few ms for a 1 440² tile).
+   * thread is free while the tile infers; each input is copied once into a buffer that is transferred to the thread
+   * and back (a few ms for a 1 440² tile).
    * False: on the calling thread, no copy.
    */
   offThread?: boolean;
