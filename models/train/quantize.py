@@ -10,7 +10,8 @@ Clip, Slice, atan angle) stay float: they read the dequantized last feature map.
 Usage: python3 models/train/quantize.py --out models/train/work/int8/seamtally-det-int8.onnx
        [--model models/seamtally-det.onnx] [--scenes models/train/work/scenes-train] [--calib mse|percentile|minmax]
        [--stats STATS.json (reuse a calibration)] [--tiles-per-scene 3] [--full-range] [--float-convs NAME,...]
-Writes OUT and OUT's sidecar (a copy of the model's, beside it as *.model.json)."""
+Writes OUT and OUT's sidecar (the model's, beside it as *.model.json: name and version with "-int8", a summary, no
+quality curves until `seamtally eval --write-quality` measures the int8 file)."""
 import argparse
 import json
 import os
@@ -257,10 +258,10 @@ def main():
     with open(sidecar_of(a.model)) as f:
         side = json.load(f)
     side.pop("quality", None)
-    side["name"] = side.get("name", "model") + "-int8"
-    side["version"] = str(side.get("version", "1")) + "-int8"
-    side["summary"] = ("int8-quantized copy of " + side["name"][: -len("-int8")] + " " + side["version"][: -len("-int8")]
-                       + ": about 1.2x faster in the browser, AP@0.5 within 1 point of it (model card)")
+    base_name, base_version = side.get("name", "model"), str(side.get("version", "1"))
+    side["name"], side["version"] = base_name + "-int8", base_version + "-int8"
+    side["summary"] = (f"int8-quantized copy of {base_name} {base_version}: about 1.2x faster in the browser, "
+                       "AP@0.5 within 1 point of it (model card)")
     with open(sidecar_of(a.out), "w") as f:
         json.dump(side, f, indent=2)
         f.write("\n")

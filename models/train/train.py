@@ -30,6 +30,11 @@ def load_shard(path):
     return imgs, objs
 
 
+def visible_arrays(objs):
+    """Mask of the mostly visible solar_panel arrays (class 1, visible >= 0.5) among a chip's objects."""
+    return (objs[:, 0] == 1) & (objs[:, 6] >= 0.5)
+
+
 class ShardPool:
     """All chips of the shards found so far, per source; rescanned as generators add shards."""
 
@@ -56,14 +61,14 @@ class ShardPool:
         """Chips holding at least one mostly visible solar_panel array (class 1), over all sources."""
         if not hasattr(self, "_solar"):
             self._solar = [(d, c) for d in self.dirs for c in self.chips[d]
-                           if len(c[1]) and ((c[1][:, 0] == 1) & (c[1][:, 6] >= 0.5)).any()]
+                           if len(c[1]) and visible_arrays(c[1]).any()]
         return self._solar
 
     def wide(self, min_px=20.0):
         """Chips holding a mostly visible array whose smaller side is at least min_px (6 m at 0.3 m): flat-roof blocks."""
         if not hasattr(self, "_wide"):
             self._wide = [(d, c) for d, c in self.solar()
-                          if ((c[1][:, 0] == 1) & (c[1][:, 6] >= 0.5) & (np.minimum(c[1][:, 3], c[1][:, 4]) >= min_px)).any()]
+                          if (visible_arrays(c[1]) & (np.minimum(c[1][:, 3], c[1][:, 4]) >= min_px)).any()]
         return self._wide
 
     def sample(self, rng, weights, solar_frac=0.0, wide_frac=0.0):

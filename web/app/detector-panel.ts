@@ -17,9 +17,9 @@ export function mountDetectorPanel(state: AppState, el: HTMLElement, useModel: (
   } }, 'Use another detector (.onnx + .model.json)');
   // a choice of the shipped detectors when there are several (e.g. full precision and int8)
   const choice = h('select', { 'aria-label': 'Shipped detector', dataset: { testid: 'model-choice' }, hidden: true, onchange: async () => {
-    const url = (choice as HTMLSelectElement).value;
+    const url = choice.value;
     if (!url || url === state.model?.url) return;
-    (choice as HTMLSelectElement).disabled = true; // until the new model is in every worker
+    choice.disabled = true; // until the new model is in every worker
     try {
       await useModel(await fetchModel(url, 'shipped'));
       rememberShippedChoice(url);
@@ -28,7 +28,7 @@ export function mountDetectorPanel(state: AppState, el: HTMLElement, useModel: (
     } finally {
       render();
     }
-  } }) as HTMLSelectElement;
+  } });
   let shipped: ShippedModel[] = [];
   const choiceHint = h('div.muted', { dataset: { testid: 'model-choice-summary' } });
   el.append(body, h('div.row', {}, choice), choiceHint, h('div.row', {}, other));
@@ -38,7 +38,7 @@ export function mountDetectorPanel(state: AppState, el: HTMLElement, useModel: (
     // the detector is part of a run's key: it cannot change under a running one
     const busy = state.progress.status === 'running' || state.progress.status === 'merging';
     choice.disabled = busy;
-    (other as HTMLButtonElement).disabled = busy;
+    other.disabled = busy;
     if (shipped.length >= 2) {
       setChildren(choice, ...shipped.map((m) => h('option', { value: m.url }, m.version ? `${m.name} (version ${m.version})` : m.name)),
         ...(cur && cur.origin !== 'shipped' ? [h('option', { value: '' }, cur.origin === 'user' ? 'your model' : 'test fixture')] : []));

@@ -13,6 +13,10 @@ async function fetchOk(url: string): Promise<Response | null> {
   } catch { return null; }
 }
 
+/** A model's display name: the sidecar's `name`, else the sidecar file's name without `.model.json`. */
+const modelName = (sidecar: { name?: string }, sidecarUrl: string): string =>
+  sidecar.name ?? sidecarUrl.split('/').pop()!.replace(/\.model\.json$/, '');
+
 /** Read a model given its sidecar URL (`…/name.model.json`; the .onnx sits beside it). */
 export async function fetchModel(sidecarUrl: string, origin: ModelEntry['origin']): Promise<ModelEntry> {
   const scRes = await fetchOk(sidecarUrl);
@@ -26,8 +30,7 @@ export async function fetchModel(sidecarUrl: string, origin: ModelEntry['origin'
   const cardName = sidecar.card ? sidecar.card.split('/').pop()! : 'README.md';
   const cardRes = origin === 'shipped' ? await fetchOk(base + cardName) : null;
   const card = cardRes && /markdown|text\/plain/.test(cardRes.headers.get('Content-Type') ?? '') ? await cardRes.text() : null;
-  const name = sidecar.name ?? sidecarUrl.split('/').pop()!.replace(/\.model\.json$/, '');
-  return { name, origin, bytes, sidecar, card, url: sidecarUrl };
+  return { name: modelName(sidecar, sidecarUrl), origin, bytes, sidecar, card, url: sidecarUrl };
 }
 
 /** A shipped detector as listed at /models/index.json (the first one is the default). */
@@ -50,7 +53,7 @@ export async function listShippedModels(): Promise<ShippedModel[]> {
     if (!res) continue;
     try {
       const sc = parseSidecar(await res.text());
-      out.push({ url, name: sc.name ?? url.split('/').pop()!.replace(/\.model\.json$/, ''), version: sc.version, summary: sc.summary });
+      out.push({ url, name: modelName(sc, url), version: sc.version, summary: sc.summary });
     } catch { /* an invalid sidecar is reported when it is chosen, not listed */ }
   }
   return out;
