@@ -69,22 +69,34 @@ export function fillUnit(
     const a = norm.scale / norm.std[c], b = -norm.mean[c] / norm.std[c];
     const off = c * plane;
     for (let oy = 0; oy < H; oy++) {
-      const row = (y0 + oy) * srcW + x0;
-      const vo = (r.y0 + oy) * T + r.x0, o = off + vo;
-      for (let ox = 0; ox < r.w; ox++) {
-        let v = s[row + ox];
-        const ok = !(hasNd && (nanNd ? v !== v : v === nodata));
-        if (c === 0) { valid[vo + ox] = ok ? 1 : 0; if (ok) any = true; }
-        let v8: number;
-        if (!valid[vo + ox]) v8 = 0;
-        else {
-          v = ok ? Math.fround(v) : 0;
-          if (identity) v8 = v;
-          else { v8 = (v - lo) * k; v8 = v8 < 0 ? 0 : v8 > 255 ? 255 : v8; }
-        }
-        tensor[o + ox] = v8 * a + b;
-      }
+      const vo = (r.y0 + oy) * T + r.x0;
+      if (fillRowGeneral(s, (y0 + oy) * srcW + x0, c === 0, tensor, off + vo, valid, vo, r.w, hasNd, nanNd, nodata ?? 0, identity, lo, k, a, b)) any = true;
     }
+  }
+  return any;
+}
+
+/**
+ * One row of one channel of the general loop (any sample type): `first` (channel 0) also sets `valid`; returns whether
+ * a pixel of the row is valid (channel 0 only). A row per call, see `lutRowFirst`.
+ */
+function fillRowGeneral(
+  s: SampleArray, row: number, first: boolean, tensor: Float32Array, o: number, valid: Uint8Array, vo: number, w: number,
+  hasNd: boolean, nanNd: boolean, nodata: number, identity: boolean, lo: number, k: number, a: number, b: number,
+): boolean {
+  let any = false;
+  for (let ox = 0; ox < w; ox++) {
+    let v = s[row + ox];
+    const ok = !(hasNd && (nanNd ? v !== v : v === nodata));
+    if (first) { valid[vo + ox] = ok ? 1 : 0; if (ok) any = true; }
+    let v8: number;
+    if (!valid[vo + ox]) v8 = 0;
+    else {
+      v = ok ? Math.fround(v) : 0;
+      if (identity) v8 = v;
+      else { v8 = (v - lo) * k; v8 = v8 < 0 ? 0 : v8 > 255 ? 255 : v8; }
+    }
+    tensor[o + ox] = v8 * a + b;
   }
   return any;
 }
@@ -154,34 +166,57 @@ function fillUnitLut(
   const fills = [0, 1, 2].map((c) => nodataValue(norm, c));
   const s0 = src[0], s1 = src[1], s2 = src[2], l0 = luts[0], l1 = luts[1], l2 = luts[2];
   let validCount = 0;
-  // one pass over the three bands; a row without a nodata pixel (the common case) takes the branch-free loop
+  // one pass over the three bands, a row per call (see `lutRowFirst`); a row without a nodata pixel (the common
+  // case) takes the branch-free loop
   for (let oy = 0; oy < H; oy++) {
     const row = (y0 + oy) * srcW + x0;
-    const o = (r.y0 + oy) * T + r.x0, o1 = plane + o, o2 = 2 * plane + o;
-    let rowValid = 0;
-    for (let ox = 0; ox < W; ox++) {
-      const v = s0[row + ox];
-      const ok = v === nd ? 0 : 1;
-      valid[o + ox] = ok;
-      rowValid += ok;
-      tensor[o + ox] = l0[v];
-    }
+    const o = (r.y0 + oy) * T + r.x0;
+    const rowValid = lutRowFirst(s0, l0, row, tensor, valid, o, W, nd);
     validCount += rowValid;
-    if (rowValid === W) {
-      for (let ox = 0; ox < W; ox++) {
-        tensor[o1 + ox] = l1[s1[row + ox]];
-        tensor[o2 + ox] = l2[s2[row + ox]];
-      }
-    } else {
-      for (let ox = 0; ox < W; ox++) {
-        if (valid[o + ox]) {
-          tensor[o1 + ox] = l1[s1[row + ox]];
-          tensor[o2 + ox] = l2[s2[row + ox]];
-        } else {
-          tensor[o + ox] = fills[0]; tensor[o1 + ox] = fills[1]; tensor[o2 + ox] = fills[2];
-        }
-      }
-    }
+    if (rowValid === W) lutRowRest(s1, s2, l1, l2, row, tensor, o + plane, o + 2 * plane, W);
+    else lutRowRestMasked(s1, s2, l1, l2, row, tensor, valid, o, plane, W, fills);
   }
   return validCount > 0;
+}
+
+// The row loops of fillUnitLut, one row per call. A tile's loops run a few million times but the function holding them
+// is called once per tile, so V8 would run them as on-stack-replaced inner loops, and Chromium's V8 leaves such code
+// at every exit of the inner loop (each row: "exit from OSR'd inner loop" in --trace-deopt) and runs the rest of the
+// row unoptimised; a function called once per row is optimised as a whole after a few hundred rows and stays so.
+
+/** First band of one row: table values and validity; returns the row's valid pixels. */
+function lutRowFirst(s0: Uint8Array | Uint16Array, l0: Float32Array, row: number, tensor: Float32Array, valid: Uint8Array, o: number, W: number, nd: number): number {
+  let rowValid = 0;
+  for (let ox = 0; ox < W; ox++) {
+    const v = s0[row + ox];
+    const ok = v === nd ? 0 : 1;
+    valid[o + ox] = ok;
+    rowValid += ok;
+    tensor[o + ox] = l0[v];
+  }
+  return rowValid;
+}
+
+/** Second and third bands of a row without nodata. */
+function lutRowRest(s1: Uint8Array | Uint16Array, s2: Uint8Array | Uint16Array, l1: Float32Array, l2: Float32Array, row: number, tensor: Float32Array, o1: number, o2: number, W: number): void {
+  for (let ox = 0; ox < W; ox++) {
+    tensor[o1 + ox] = l1[s1[row + ox]];
+    tensor[o2 + ox] = l2[s2[row + ox]];
+  }
+}
+
+/** Second and third bands of a row with nodata pixels (those get the nodata value in all three channels). */
+function lutRowRestMasked(
+  s1: Uint8Array | Uint16Array, s2: Uint8Array | Uint16Array, l1: Float32Array, l2: Float32Array, row: number, tensor: Float32Array,
+  valid: Uint8Array, o: number, plane: number, W: number, fills: readonly number[],
+): void {
+  const o1 = o + plane, o2 = o + 2 * plane;
+  for (let ox = 0; ox < W; ox++) {
+    if (valid[o + ox]) {
+      tensor[o1 + ox] = l1[s1[row + ox]];
+      tensor[o2 + ox] = l2[s2[row + ox]];
+    } else {
+      tensor[o + ox] = fills[0]; tensor[o1 + ox] = fills[1]; tensor[o2 + ox] = fills[2];
+    }
+  }
 }

@@ -144,53 +144,66 @@ export function resampleBand(src: SampleArray, plan: ResamplePlan, dst: Float32A
   const { x, y } = plan;
   const outW = x.start.length;
   const outH = y.start.length;
-  if (plan.unit) {
-    for (let oy = 0; oy < outH; oy++) {
-      const row = y.start[oy] * srcW;
-      const yIn = y.inside[oy];
-      for (let ox = 0; ox < outW; ox++) {
-        const o = oy * outW + ox;
-        const v = src[row + x.start[ox]];
-        const ok = yIn && x.inside[ox] && !(nodata !== null && (nanNodata ? Number.isNaN(v) : v === nodata));
-        dst[o] = ok ? v : fill;
-        if (valid) valid[o] = ok ? 1 : 0;
+  const nd = nodata === null ? null : nanNodata ? NaN : nodata;
+  // a row per call: V8 optimises a function called per row as a whole, where a loop nest called once per tile runs as
+  // an on-stack-replaced inner loop that Chromium's V8 leaves at the end of every row (see fill-unit.ts `lutRowFirst`)
+  for (let oy = 0; oy < outH; oy++) {
+    if (plan.unit) resampleRowUnit(src, srcW, x, y.start[oy], y.inside[oy] === 1, dst, valid, oy * outW, nd, fill);
+    else resampleRow(src, srcW, x, y, oy, dst, valid, oy * outW, nd, fill);
+  }
+}
+
+/** True when v is the nodata value `nd` (NaN: any NaN; null: never). */
+function isNodata(v: number, nd: number | null): boolean {
+  return nd !== null && (nd !== nd ? v !== v : v === nd);
+}
+
+/** One output row of a unit plan: source row `ys`, columns through `x`. */
+function resampleRowUnit(src: SampleArray, srcW: number, x: AxisWeights, ys: number, yIn: boolean, dst: Float32Array, valid: Uint8Array | undefined, o0: number, nd: number | null, fill: number): void {
+  const row = ys * srcW;
+  const outW = x.start.length;
+  for (let ox = 0; ox < outW; ox++) {
+    const v = src[row + x.start[ox]];
+    const ok = yIn && x.inside[ox] === 1 && !isNodata(v, nd);
+    dst[o0 + ox] = ok ? v : fill;
+    if (valid) valid[o0 + ox] = ok ? 1 : 0;
+  }
+}
+
+/** One output row `oy` of a weighted plan: each output pixel the weighted mean of its valid source pixels. */
+function resampleRow(src: SampleArray, srcW: number, x: AxisWeights, y: AxisWeights, oy: number, dst: Float32Array, valid: Uint8Array | undefined, o0: number, nd: number | null, fill: number): void {
+  const ys = y.start[oy];
+  const yn = y.count[oy];
+  const yIn = y.inside[oy];
+  const outW = x.start.length;
+  for (let ox = 0; ox < outW; ox++) {
+    const o = o0 + ox;
+    if (!yIn || !x.inside[ox]) {
+      dst[o] = fill;
+      if (valid) valid[o] = 0;
+      continue;
+    }
+    const xs = x.start[ox];
+    const xn = x.count[ox];
+    let sum = 0;
+    let wsum = 0;
+    for (let j = 0; j < yn; j++) {
+      const wy = y.w[oy * y.stride + j];
+      const row = (ys + j) * srcW + xs;
+      for (let i = 0; i < xn; i++) {
+        const v = src[row + i];
+        if (isNodata(v, nd)) continue;
+        const wgt = wy * x.w[ox * x.stride + i];
+        sum += wgt * v;
+        wsum += wgt;
       }
     }
-    return;
-  }
-  for (let oy = 0; oy < outH; oy++) {
-    const ys = y.start[oy];
-    const yn = y.count[oy];
-    const yIn = y.inside[oy];
-    for (let ox = 0; ox < outW; ox++) {
-      const o = oy * outW + ox;
-      if (!yIn || !x.inside[ox]) {
-        dst[o] = fill;
-        if (valid) valid[o] = 0;
-        continue;
-      }
-      const xs = x.start[ox];
-      const xn = x.count[ox];
-      let sum = 0;
-      let wsum = 0;
-      for (let j = 0; j < yn; j++) {
-        const wy = y.w[oy * y.stride + j];
-        const row = (ys + j) * srcW + xs;
-        for (let i = 0; i < xn; i++) {
-          const v = src[row + i];
-          if (nodata !== null && (nanNodata ? Number.isNaN(v) : v === nodata)) continue;
-          const wgt = wy * x.w[ox * x.stride + i];
-          sum += wgt * v;
-          wsum += wgt;
-        }
-      }
-      if (wsum > 0) {
-        dst[o] = sum / wsum;
-        if (valid) valid[o] = 1;
-      } else {
-        dst[o] = fill;
-        if (valid) valid[o] = 0;
-      }
+    if (wsum > 0) {
+      dst[o] = sum / wsum;
+      if (valid) valid[o] = 1;
+    } else {
+      dst[o] = fill;
+      if (valid) valid[o] = 0;
     }
   }
 }

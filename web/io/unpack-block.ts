@@ -48,27 +48,37 @@ export function unpackChunky(src: SampleArray, spp: number, dst: SampleArray[], 
   }
 }
 
-/** Three interleaved bands (RGB), the common case: one pass, three accumulators. */
+/**
+ * Three interleaved bands (RGB), the common case: one pass, three accumulators, a row per call (V8 optimises a function
+ * called per row as a whole; a loop nest called once per block would run as an on-stack-replaced inner loop that
+ * Chromium's V8 leaves at the end of every row, see core/fill-unit.ts `lutRowFirst`).
+ */
 function unpack3(src: SampleArray, d0: SampleArray, d1: SampleArray, d2: SampleArray, r: UnpackRegion, accMask: number): void {
   const { rowLenPx, colPx0, colPx1 } = r;
   for (let y = r.rowPx0; y < r.rowPx1; y++) {
-    let s = y * rowLenPx * 3;
+    const s = y * rowLenPx * 3;
     const rowD = (r.dstYPx + y - r.rowPx0) * r.dstWidthPx + r.dstXPx - colPx0;
-    if (accMask !== 0) {
-      let a0 = 0, a1 = 0, a2 = 0;
-      for (let x = 0; x < colPx0; x++, s += 3) {
-        a0 = (a0 + src[s]) & accMask; a1 = (a1 + src[s + 1]) & accMask; a2 = (a2 + src[s + 2]) & accMask;
-      }
-      for (let x = colPx0, d = rowD + colPx0; x < colPx1; x++, s += 3, d++) {
-        a0 = (a0 + src[s]) & accMask; a1 = (a1 + src[s + 1]) & accMask; a2 = (a2 + src[s + 2]) & accMask;
-        d0[d] = a0; d1[d] = a1; d2[d] = a2;
-      }
-    } else {
-      s += colPx0 * 3;
-      for (let x = colPx0, d = rowD + colPx0; x < colPx1; x++, s += 3, d++) {
-        d0[d] = src[s]; d1[d] = src[s + 1]; d2[d] = src[s + 2];
-      }
-    }
+    if (accMask !== 0) unpack3RowPredictor(src, d0, d1, d2, s, rowD, colPx0, colPx1, accMask);
+    else unpack3Row(src, d0, d1, d2, s + colPx0 * 3, rowD + colPx0, colPx1 - colPx0);
+  }
+}
+
+/** One row of Predictor-2 samples: accumulate from the block's first column, store from colPx0. */
+function unpack3RowPredictor(src: SampleArray, d0: SampleArray, d1: SampleArray, d2: SampleArray, s: number, rowD: number, colPx0: number, colPx1: number, accMask: number): void {
+  let a0 = 0, a1 = 0, a2 = 0;
+  for (let x = 0; x < colPx0; x++, s += 3) {
+    a0 = (a0 + src[s]) & accMask; a1 = (a1 + src[s + 1]) & accMask; a2 = (a2 + src[s + 2]) & accMask;
+  }
+  for (let x = colPx0, d = rowD + colPx0; x < colPx1; x++, s += 3, d++) {
+    a0 = (a0 + src[s]) & accMask; a1 = (a1 + src[s + 1]) & accMask; a2 = (a2 + src[s + 2]) & accMask;
+    d0[d] = a0; d1[d] = a1; d2[d] = a2;
+  }
+}
+
+/** One row of `n` pixels copied as they are, from interleaved sample s to destination index d. */
+function unpack3Row(src: SampleArray, d0: SampleArray, d1: SampleArray, d2: SampleArray, s: number, d: number, n: number): void {
+  for (let x = 0; x < n; x++, s += 3, d++) {
+    d0[d] = src[s]; d1[d] = src[s + 1]; d2[d] = src[s + 2];
   }
 }
 
