@@ -15,9 +15,12 @@ import { createDetectionTable, type DetectionTable } from './types.ts';
 
 /**
  * The injected detector: one float32 tensor of dims [1, 3, H, W] in (tilePx square, or a sized window's own H × W for
- * a dynamic-input model, so the shape may change from call to call), named output tensors out.
+ * a dynamic-input model, so the shape may change from call to call), named output tensors out. `lend`, when given, is
+ * the scratch whose tensor `input` is a view of (from its start): the detector may transfer that tensor's buffer to
+ * another thread instead of copying it, and then puts a tensor of the same length back into `lend.tensor` before its
+ * promise settles (an answer that never comes leaves the scratch without a tensor; the run has failed then anyway).
  */
-export type InferFn = (input: Float32Array, dims: readonly [1, 3, number, number]) => Promise<Record<string, TensorLike>>;
+export type InferFn = (input: Float32Array, dims: readonly [1, 3, number, number], lend?: TileScratch) => Promise<Record<string, TensorLike>>;
 
 /** Everything one scene's tiles need, prepared once per scene (stretch from an overview, tiling, frame). */
 export interface ScenePipeline {
@@ -281,7 +284,7 @@ export async function inferTile(p: ScenePipeline, filled: FilledTile, infer: Inf
   if (signal?.aborted) throw new SeamtallyError('cancelled', 'The run was cancelled.');
   let t0 = now();
   const input = tileInput(p.plan, tile, scratch);
-  const outputs = await infer(input.data, input.dims);
+  const outputs = await infer(input.data, input.dims, scratch);
   timings.inferMs = now() - t0;
   t0 = now();
   const wm = tile.windowModelPx;

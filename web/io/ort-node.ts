@@ -5,7 +5,7 @@ import { Worker } from 'node:worker_threads';
 import * as ort from 'onnxruntime-node';
 import { SeamtallyError } from '../core/errors.ts';
 import { checkModelIO, type ModelDim, type ModelSidecar } from '../core/model-contract.ts';
-import type { InferFn } from '../core/pipeline.ts';
+import type { InferFn, TileScratch } from '../core/pipeline.ts';
 import type { TensorLike } from '../core/decode-outputs.ts';
 import { modelLoadFailure } from '../core/model-load-failure.ts';
 
@@ -16,8 +16,9 @@ export interface NodeModelOptions {
   tilePx?: number;
   /**
    * Run the session on its own thread (default true): `infer` then returns at once to the event loop and the JS
-   * thread is free while the tile infers; each input is copied once into a buffer that is transferred to the thread
-   * and back (a few ms for a 1 440² tile).
+   * thread is free while the tile infers. The tile's scratch tensor, when `infer` is lent it (as the pipeline does),
+   * is transferred to the thread and back with the answer; other inputs are copied once into a buffer that makes
+   * the same trip (a few ms for a 1 440² tile).
    * False: on the calling thread, no copy.
    */
   offThread?: boolean;
@@ -29,7 +30,7 @@ interface SessionLike {
   outputNames: readonly string[];
   inputMetadata: readonly MetaLike[];
   outputMetadata: readonly MetaLike[];
-  run(inputName: string, input: Float32Array, dims: readonly number[]): Promise<Array<{ name: string; type: string; data: unknown; dims: readonly number[] }>>;
+  run(inputName: string, input: Float32Array, dims: readonly number[], lend?: TileScratch): Promise<Array<{ name: string; type: string; data: unknown; dims: readonly number[] }>>;
   release(): Promise<void>;
 }
 interface MetaLike { name: string; isTensor: boolean; shape: ReadonlyArray<number | string> }
@@ -63,8 +64,8 @@ export async function openNodeModel(modelBytes: Uint8Array, sidecar: ModelSideca
     throw err;
   }
   const inputName = sidecar.input.name;
-  const infer: InferFn = async (input, shape) => {
-    const res = await session.run(inputName, input, shape);
+  const infer: InferFn = async (input, shape, lend) => {
+    const res = await session.run(inputName, input, shape, lend);
     const out: Record<string, TensorLike> = {};
     for (const t of res) {
       if (t.type !== 'float32') {
@@ -108,7 +109,8 @@ async function openLocalSession(modelBytes: Uint8Array, threads: number): Promis
 
 /**
  * Messages from ort-node-thread.mjs (to it: { kind: 'run', id, inputName, buffer, length, dims } with the buffer
- * transferred, and { kind: 'close' }); a run's answer transfers its input buffer back.
+ * transferred, and { kind: 'close' }); a run's answer transfers its input buffer back: into the lent scratch it came
+ * from, or to the pool of copy buffers.
  */
 type FromThread =
   | { kind: 'ready'; inputNames: string[]; outputNames: string[]; inputMetadata: MetaLike[]; outputMetadata: MetaLike[] }
@@ -119,7 +121,7 @@ type FromThread =
 async function openThreadSession(modelBytes: Uint8Array, threads: number): Promise<SessionLike> {
   const bytes = modelBytes.slice().buffer; // the thread gets its own copy
   const worker = new Worker(new URL('./ort-node-thread.mjs', import.meta.url), { workerData: { modelBytes: bytes, options: sessionOptions(threads) }, transferList: [bytes] });
-  const pending = new Map<number, { resolve: (v: FromThread & { kind: 'result' }) => void; reject: (e: unknown) => void }>();
+  const pending = new Map<number, { resolve: (v: FromThread & { kind: 'result' }) => void; reject: (e: unknown) => void; lent: TileScratch | null }>();
   // buffers for inputs, transferred to the thread and back with each answer (one per run in flight), reused
   const free: ArrayBuffer[] = [];
   let failure: Error | null = null;
@@ -133,8 +135,9 @@ async function openThreadSession(modelBytes: Uint8Array, threads: number): Promi
       if (m.kind === 'ready') resolve(m);
       else if (m.kind === 'load-failed') reject(modelLoadFailure(new Error(m.message), modelBytes.length));
       else {
-        if (m.buffer) free.push(m.buffer);
         const p = pending.get(m.id);
+        if (p?.lent) p.lent.tensor = new Float32Array(m.buffer);
+        else if (m.buffer) free.push(m.buffer);
         if (!p) return;
         pending.delete(m.id);
         if (m.kind === 'result') p.resolve(m);
@@ -159,16 +162,22 @@ async function openThreadSession(modelBytes: Uint8Array, threads: number): Promi
   let closed = false;
   return {
     inputNames: m.inputNames, outputNames: m.outputNames, inputMetadata: m.inputMetadata, outputMetadata: m.outputMetadata,
-    async run(inputName, input, dims) {
+    async run(inputName, input, dims, lend) {
       if (closed) throw new SeamtallyError('cancelled', 'The model was closed.');
       if (failure) throw failure;
-      const bytesNeeded = input.length * 4;
-      const k = free.findIndex((b) => b.byteLength >= bytesNeeded);
-      const buffer = k >= 0 ? free.splice(k, 1)[0] : new ArrayBuffer(bytesNeeded);
-      new Float32Array(buffer, 0, input.length).set(input);
+      // the scratch's own buffer when it is lent and `input` is its start (never shared memory: it cannot be transferred)
+      const lent = lend && lend.tensor.buffer === input.buffer && input.byteOffset === 0 && lend.tensor.buffer instanceof ArrayBuffer ? lend : null;
+      let buffer: ArrayBuffer;
+      if (lent) buffer = lent.tensor.buffer as ArrayBuffer;
+      else {
+        const bytesNeeded = input.length * 4;
+        const k = free.findIndex((b) => b.byteLength >= bytesNeeded);
+        buffer = k >= 0 ? free.splice(k, 1)[0] : new ArrayBuffer(bytesNeeded);
+        new Float32Array(buffer, 0, input.length).set(input);
+      }
       const id = nextId++;
       const res = await new Promise<FromThread & { kind: 'result' }>((resolve, reject) => {
-        pending.set(id, { resolve, reject });
+        pending.set(id, { resolve, reject, lent });
         worker.postMessage({ kind: 'run', id, inputName, buffer, length: input.length, dims: [...dims] }, [buffer]);
       });
       return res.outputs;

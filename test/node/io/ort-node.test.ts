@@ -4,6 +4,7 @@ import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { parseSidecar } from '../../../web/core/model-contract.ts';
 import { openNodeModel } from '../../../web/io/ort-node.ts';
+import { createTileScratch } from '../../../web/core/pipeline.ts';
 
 const MODEL = 'test/fixtures/fixture-model.onnx'; // input [1, 3, 'H', 'W'], outputs at stride 1
 const sidecar = { ...parseSidecar(readFileSync('test/fixtures/fixture-model.model.json', 'utf8')), maxTilePx: 192 };
@@ -53,6 +54,27 @@ describe('openNodeModel on its own thread (the default)', () => {
     } finally {
       await off.close();
       await on.close();
+    }
+  });
+
+  it('borrows a lent scratch tensor for the trip to the thread and puts it back, with the outputs of a copy', async () => {
+    const off = await openNodeModel(new Uint8Array(readFileSync(SHIPPED)), shipped);
+    try {
+      const scratch = createTileScratch(512);
+      for (const [h, w] of [[256, 320], [512, 512], [256, 320]] as const) {
+        const n = 3 * h * w;
+        scratch.tensor.set(input(h, w));
+        const want = await off.infer(scratch.tensor.slice(0, n), [1, 3, h, w]); // a copy, not lent
+        const before = scratch.tensor;
+        const pending = off.infer(scratch.tensor.subarray(0, n), [1, 3, h, w], scratch);
+        expect(before.byteLength).toBe(0); // transferred, not copied, while it infers
+        const got = await pending;
+        expect(scratch.tensor.length).toBe(3 * 512 * 512); // back in the scratch, whole
+        expect(Array.from(scratch.tensor.subarray(0, n))).toEqual(Array.from(input(h, w))); // and unchanged
+        for (const name of Object.keys(want)) expect(Array.from(got[name].data)).toEqual(Array.from(want[name].data));
+      }
+    } finally {
+      await off.close();
     }
   });
 
