@@ -1,7 +1,7 @@
 // Fast path of filling a tile's tensor when the scene is at the model GSD: copy, mask nodata and normalise in one pass
 // (the same values resampleBand + normaliseInPlace give, without the intermediate passes over the tile).
 import type { Stretch, InputNormalisation } from './radiometry.ts';
-import type { ResamplePlan } from './resample.ts';
+import { isNodata, type ResamplePlan } from './resample.ts';
 import type { SampleArray } from './scene-source.ts';
 
 /**
@@ -60,7 +60,6 @@ export function fillUnit(
     }
   }
   const H = r.h;
-  const hasNd = nodata !== null, nanNd = hasNd && Number.isNaN(nodata);
   const identity = stretch.kind === 'identity';
   let any = false;
   for (let c = 0; c < 3; c++) {
@@ -70,7 +69,7 @@ export function fillUnit(
     const off = c * plane;
     for (let oy = 0; oy < H; oy++) {
       const vo = (r.y0 + oy) * T + r.x0;
-      if (fillRowGeneral(s, (y0 + oy) * srcW + x0, c === 0, tensor, off + vo, valid, vo, r.w, hasNd, nanNd, nodata ?? 0, identity, lo, k, a, b)) any = true;
+      if (fillRowGeneral(s, (y0 + oy) * srcW + x0, c === 0, tensor, off + vo, valid, vo, r.w, nodata, identity, lo, k, a, b)) any = true;
     }
   }
   return any;
@@ -82,12 +81,12 @@ export function fillUnit(
  */
 function fillRowGeneral(
   s: SampleArray, row: number, first: boolean, tensor: Float32Array, o: number, valid: Uint8Array, vo: number, w: number,
-  hasNd: boolean, nanNd: boolean, nodata: number, identity: boolean, lo: number, k: number, a: number, b: number,
+  nodata: number | null, identity: boolean, lo: number, k: number, a: number, b: number,
 ): boolean {
   let any = false;
   for (let ox = 0; ox < w; ox++) {
     let v = s[row + ox];
-    const ok = !(hasNd && (nanNd ? v !== v : v === nodata));
+    const ok = !isNodata(v, nodata);
     if (first) { valid[vo + ox] = ok ? 1 : 0; if (ok) any = true; }
     let v8: number;
     if (!valid[vo + ox]) v8 = 0;

@@ -139,22 +139,20 @@ export function resampleBand(src: SampleArray, plan: ResamplePlan, dst: Float32A
   const nodata = opts.nodata ?? null;
   const fill = opts.fillValue ?? 0;
   const valid = opts.validOut;
-  const nanNodata = nodata !== null && Number.isNaN(nodata);
   const srcW = plan.srcBox.maxXPx - plan.srcBox.minXPx;
   const { x, y } = plan;
   const outW = x.start.length;
   const outH = y.start.length;
-  const nd = nodata === null ? null : nanNodata ? NaN : nodata;
   // a row per call: V8 optimises a function called per row as a whole, where a loop nest called once per tile runs as
   // an on-stack-replaced inner loop that Chromium's V8 leaves at the end of every row (see fill-unit.ts `lutRowFirst`)
   for (let oy = 0; oy < outH; oy++) {
-    if (plan.unit) resampleRowUnit(src, srcW, x, y.start[oy], y.inside[oy] === 1, dst, valid, oy * outW, nd, fill);
-    else resampleRow(src, srcW, x, y, oy, dst, valid, oy * outW, nd, fill);
+    if (plan.unit) resampleRowUnit(src, srcW, x, y.start[oy], y.inside[oy] === 1, dst, valid, oy * outW, nodata, fill);
+    else resampleRow(src, srcW, x, y, oy, dst, valid, oy * outW, nodata, fill);
   }
 }
 
 /** True when v is the nodata value `nd` (NaN: any NaN; null: never). */
-function isNodata(v: number, nd: number | null): boolean {
+export function isNodata(v: number, nd: number | null): boolean {
   return nd !== null && (nd !== nd ? v !== v : v === nd);
 }
 

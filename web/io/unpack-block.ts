@@ -33,18 +33,20 @@ export function unpackChunky(src: SampleArray, spp: number, dst: SampleArray[], 
   for (let y = r.rowPx0; y < r.rowPx1; y++) {
     const rowS = y * r.rowLenPx * spp;
     const rowD = (r.dstYPx + y - r.rowPx0) * r.dstWidthPx + r.dstXPx - r.colPx0;
-    for (let b = 0; b < nb; b++) {
-      const out = dst[b];
-      if (accMask !== 0) {
-        let acc = 0;
-        for (let x = 0, s = rowS + b; x < r.colPx1; x++, s += spp) {
-          acc = (acc + src[s]) & accMask;
-          if (x >= r.colPx0) out[rowD + x] = acc;
-        }
-      } else {
-        for (let x = r.colPx0, s = rowS + r.colPx0 * spp + b; x < r.colPx1; x++, s += spp) out[rowD + x] = src[s];
-      }
+    for (let b = 0; b < nb; b++) unpackBandRow(src, spp, b, dst[b], rowS, rowD, r.colPx0, r.colPx1, accMask);
+  }
+}
+
+/** Band b of one row of interleaved samples (any band count), a row per call as `unpack3`. */
+function unpackBandRow(src: SampleArray, spp: number, b: number, out: SampleArray, rowS: number, rowD: number, colPx0: number, colPx1: number, accMask: number): void {
+  if (accMask !== 0) {
+    let acc = 0;
+    for (let x = 0, s = rowS + b; x < colPx1; x++, s += spp) {
+      acc = (acc + src[s]) & accMask;
+      if (x >= colPx0) out[rowD + x] = acc;
     }
+  } else {
+    for (let x = colPx0, s = rowS + colPx0 * spp + b; x < colPx1; x++, s += spp) out[rowD + x] = src[s];
   }
 }
 
