@@ -29,7 +29,6 @@ import { installQuotaFault } from './faults.ts';
 import { CoverageService } from './coverage-service.ts';
 import { restoreKeptWork, restoreKeptScenes } from './restore.ts';
 import { toErrorInfo } from '../core/errors.ts';
-import type { DateTally } from './tally.ts';
 
 async function main(): Promise<void> {
   const config = readPageConfig(location);
@@ -54,7 +53,6 @@ async function main(): Promise<void> {
   });
   const detections = new DetectionsLayer(view, state, tally.api);
   const runs = new RunController(state, { pool, tally: tally.api }, { paceMs: config.paceMs });
-  let lastTally: DateTally[] = [];
 
   const useModel = async (m: ModelEntry) => {
     await pool.setModel(m);
@@ -68,10 +66,10 @@ async function main(): Promise<void> {
   mountAoiPanel(state, layout.areas, aoiLayer);
   mountDetectorPanel(state, layout.detector, useModel);
   mountRunPanel(state, layout.run, runs, pool);
-  mountTallyPanel(state, layout.tabs.tally, new CoverageService(state, tally.api), (t) => { lastTally = t; });
-  mountComparePanel(state, layout.tabs.compare, () => lastTally);
+  const tallies = mountTallyPanel(state, layout.tabs.tally, new CoverageService(state, tally.api));
+  mountComparePanel(state, layout.tabs.compare, tallies.current);
   mountReviewPanel(state, layout.tabs.check, { view, detections, layout });
-  mountTakeawayPanel(state, layout.tabs.takeaway, { view, getTally: () => lastTally, exportFails: config.faults?.exportFails ?? false });
+  mountTakeawayPanel(state, layout.tabs.takeaway, { view, getTally: tallies.current, exportFails: config.faults?.exportFails ?? false });
   state.events.on('shown-date-changed', () => layers.showDate(state.shownDate));
   // The first scene switches the map into its CRS: redraw areas and detections in the new projection.
   view.map.on('change:view', () => { aoiLayer.render(state.aois); detections.rebuild(); });

@@ -15,8 +15,19 @@ const headers: Array<[string, string]> = [
 const levelClass = { reliable: 'lvl-reliable', 'use-with-care': 'lvl-care', 'not-reliable': 'lvl-unreliable' } as const;
 const levelWords = { reliable: 'reliable', 'use-with-care': 'care', 'not-reliable': 'unreliable' } as const;
 
-/** Render the tally tab into `el`; `onTally` receives every recomputed tally (compare tab, report). */
-export function mountTallyPanel(state: AppState, el: HTMLElement, coverage: CoverageService, onTally: (t: DateTally[]) => void): void {
+/** The latest tally, for the compare tab and the report. */
+export interface TallySource {
+  /** The tally of the current state: computed now if a change has not been rendered yet. */
+  current(): DateTally[];
+}
+
+/**
+ * Render the tally tab into `el`. A change (a tile result, the threshold, a review…) marks the tally stale and renders
+ * it in a task of its own, coalescing the changes that arrive before it runs: the task that delivered a tile result
+ * (and redraws the map) stays short, and the page stays responsive during a run. `current()` never returns a stale
+ * tally.
+ */
+export function mountTallyPanel(state: AppState, el: HTMLElement, coverage: CoverageService): TallySource {
   const value = h('span', {}, state.minScore.toFixed(2));
   const slider = h('input.slider', { type: 'range', min: '0.2', max: '0.95', step: '0.01', value: String(state.minScore),
     'aria-label': 'Score threshold', dataset: { testid: 'threshold' },
@@ -34,15 +45,22 @@ export function mountTallyPanel(state: AppState, el: HTMLElement, coverage: Cove
   );
 
   let shownDates = '';
+  let tally: DateTally[] = [];
+  let stale = true;
+  let scheduled = false;
+  const current = () => {
+    if (stale) { tally = computeTally(state, coverage); stale = false; }
+    return tally;
+  };
   const render = () => {
+    scheduled = false;
     const dates = [...new Set(state.scenes.map((s) => s.dateIso))].sort();
     const datesKey = `${state.shownDate}|${dates.join(',')}`;
     if (datesKey !== shownDates) { // not rebuilt on every result during a run
       shownDates = datesKey;
       setChildren(dateSel, h('option', { value: '' }, 'all dates'), ...dates.map((d) => h('option', { value: d, selected: state.shownDate === d }, d)));
     }
-    const tally = computeTally(state, coverage);
-    onTally(tally);
+    const tally = current();
     if (tally.length === 0) { setChildren(table, h('p.muted', {}, 'Run the detector to see counts.')); setChildren(notes); return; }
     if (state.aois.length === 0) { setChildren(table, h('p.muted', {}, 'Draw or import an area to count inside it.')); }
     else {
@@ -63,6 +81,11 @@ export function mountTallyPanel(state: AppState, el: HTMLElement, coverage: Cove
       d.upsampling ? h('div.weak', {}, `${d.dateIso}: ${d.upsampling}`) : null,
     ]));
   };
-  for (const ev of ['results-changed', 'threshold-changed', 'review-changed', 'aois-changed', 'scenes-changed', 'model-changed', 'coverage-changed'] as const) state.events.on(ev, render);
+  const changed = () => {
+    stale = true;
+    if (!scheduled) { scheduled = true; setTimeout(render, 0); }
+  };
+  for (const ev of ['results-changed', 'threshold-changed', 'review-changed', 'aois-changed', 'scenes-changed', 'model-changed', 'coverage-changed'] as const) state.events.on(ev, changed);
   render();
+  return { current };
 }
