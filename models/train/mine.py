@@ -7,28 +7,25 @@ mined chips did not remove them.
 Usage: /usr/bin/python3 models/train/mine.py CKPT.pt --sources DIR... --out DIR [--min-score 0.37] [--min-fp 2]"""
 import argparse
 import glob
-import json
 import os
 import sys
 import numpy as np
 import torch
-import torch.nn.functional as F
 
 sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
 from model import SeamtallyDet  # noqa: E402
+from quick_eval import decode  # noqa: E402
 from train import load_shard  # noqa: E402
 
 
-def vehicle_false_alarms(heat, offset, objs, thr):
-    """Vehicle peaks (3x3 local maxima >= thr) farther than max(4 px, 0.4 x its length) from the nearest truth vehicle
-    (any visibility: a peak on a mostly hidden car is not held against the model)."""
-    h = heat[0:1, 0:1]
-    peaks = (h == F.max_pool2d(h, 3, 1, 1)) & (h >= thr)
-    js, is_ = torch.nonzero(peaks[0, 0], as_tuple=True)
+def vehicle_false_alarms(dets, objs):
+    """Vehicle detections (quick_eval.decode's peaks) farther than max(4 px, 0.4 x its length) from the nearest truth
+    vehicle (any visibility: a peak on a mostly hidden car is not held against the model)."""
     veh = objs[objs[:, 0] == 0]
     fa = 0
-    for j, i in zip(js.tolist(), is_.tolist()):
-        cx, cy = (i + float(offset[0, 0, j, i])) * 4, (j + float(offset[0, 1, j, i])) * 4
+    for c, _, cx, cy, _, _ in dets:
+        if c != 0:
+            continue
         if len(veh) == 0:
             fa += 1
             continue
@@ -61,8 +58,8 @@ def main():
             for i in range(len(imgs)):
                 o = objs[objs[:, 0] == i][:, 1:]
                 with torch.no_grad():
-                    heat, _, off, _ = model(torch.from_numpy(imgs[i].transpose(2, 0, 1).copy()).float()[None] / 255)
-                fa = vehicle_false_alarms(heat, off, o, a.min_score)
+                    heat, size, off, _ = model(torch.from_numpy(imgs[i].transpose(2, 0, 1).copy()).float()[None] / 255)
+                fa = vehicle_false_alarms(decode(heat, size, off, a.min_score), o)
                 seen += 1
                 total_fa += fa
                 hist[min(fa, 10)] = hist.get(min(fa, 10), 0) + 1
@@ -73,9 +70,9 @@ def main():
     if not kept_imgs:
         print(f"no chip of {seen} has {a.min_fp} or more false alarms: nothing written")
         return
-    px = kept_imgs[0].shape[0]
-    np.stack(kept_imgs).astype(np.uint8).tofile(os.path.join(a.out, "shard_hard.u8"))
-    json.dump({"n": len(kept_imgs), "px": px, "objects": kept_objs}, open(os.path.join(a.out, "shard_hard.json"), "w"))
+    # the procedural chips' shard format (gen_worker.py), which train.load_shard reads
+    np.savez(os.path.join(a.out, "shard_hard.npz"), images=np.stack(kept_imgs).astype(np.uint8),
+             objects=np.array(kept_objs, np.float32).reshape(-1, 8))
     print(f"kept {len(kept_imgs)} of {seen} chips (false alarms per chip: {dict(sorted(hist.items()))})")
 
 

@@ -45,12 +45,12 @@ export function mountTallyPanel(state: AppState, el: HTMLElement, coverage: Cove
   );
 
   let shownDates = '';
-  let tally: DateTally[] = [];
+  let latest: DateTally[] = [];
   let stale = true;
   let scheduled = false;
   const current = () => {
-    if (stale) { tally = computeTally(state, coverage); stale = false; }
-    return tally;
+    if (stale) { latest = computeTally(state, coverage); stale = false; }
+    return latest;
   };
   const render = () => {
     scheduled = false;
