@@ -1,7 +1,9 @@
 // Training / validation / evaluation scene sets for the detector, written with the synthesizer's own scene writer
 // (the same code `seamtally synth` runs). The sets never share seeds; the evaluation set also uses a scenario,
 // dates (sun angles, seasons) and sensor settings the training set does not.
-// Usage: npx tsx models/train/make-scenes.ts train|lowsun|val|eval|fresh|tiling DIR [count]
+// Usage: npx tsx models/train/make-scenes.ts train|lowsun|val|val-lowsun|eval|fresh|tiling DIR [count]
+// 'val-lowsun' is a low-sun validation set (seeds 5101+, made like 'lowsun'): thresholds are chosen on 'val' and it
+// together, so the shipped threshold has seen the light the model must also work in (not only summer towns).
 // 'fresh' is a second held-out set made the way 'eval' is (seeds 9201+, its own random draws), kept for one clean
 // check after 'eval' had guided training decisions: look at it once per model version, never to choose anything.
 import { existsSync, mkdirSync, writeFileSync } from 'node:fs';
@@ -35,7 +37,10 @@ function dateIn(r: () => number, months: number[]): string {
 }
 
 /** The scene options of one set. */
-export function sceneSet(set: 'train' | 'lowsun' | 'val' | 'eval' | 'fresh' | 'tiling', count: number): SceneOptions[] {
+export type SceneSet = 'train' | 'lowsun' | 'val' | 'val-lowsun' | 'eval' | 'fresh' | 'tiling';
+const SETS: SceneSet[] = ['train', 'lowsun', 'val', 'val-lowsun', 'eval', 'fresh', 'tiling'];
+
+export function sceneSet(set: SceneSet, count: number): SceneOptions[] {
   const out: SceneOptions[] = [];
   // one large held-out scene for the tiling-invariance check (counts with three tile sizes)
   if (set === 'tiling') return [{ name: 'tiling-4000', seed: 9100, gsdM: 0.3, widthPx: 4000, scenario: 'town', date: '2024-10-20', bands: 'rgb', bits: 8 }];
@@ -58,13 +63,14 @@ export function sceneSet(set: 'train' | 'lowsun' | 'val' | 'eval' | 'fresh' | 't
     }
     return out;
   }
-  if (set === 'lowsun') {
-    // training stage 3: low sun (long shadows) at any azimuth, seeds 101+ (town scenario only)
-    const r = prng(101);
+  if (set === 'lowsun' || set === 'val-lowsun') {
+    // training stage 3: low sun (long shadows) at any azimuth, seeds 101+ (town scenario only); its validation twin 5101+
+    const seed0 = set === 'lowsun' ? 101 : 5101;
+    const r = prng(seed0);
     for (let i = 0; i < count; i++) {
       const gsdM = Math.round(Math.exp(Math.log(0.13) + r() * (Math.log(0.85) - Math.log(0.13))) * 1000) / 1000;
       out.push({
-        name: `lowsun-${String(i).padStart(3, '0')}`, seed: 101 + i, gsdM, widthPx: sidePx(gsdM), scenario: 'town',
+        name: `${set}-${String(i).padStart(3, '0')}`, seed: seed0 + i, gsdM, widthPx: sidePx(gsdM), scenario: 'town',
         date: dateIn(r, [3, 4, 5, 6, 7, 8, 9]), bands: pick(r, LAYOUTS), bits: pick(r, BITS),
         sunElevationDeg: 12 + 20 * r(), sunAzimuthDeg: 360 * r(),
         psfSigmaPx: 0.3 + 0.5 * r(), hazeFraction: 0.12 * r() * r(), readNoiseE: 5 + 40 * r(), occupancy: 0.15 + 0.8 * r(),
@@ -88,9 +94,9 @@ export function sceneSet(set: 'train' | 'lowsun' | 'val' | 'eval' | 'fresh' | 't
 
 async function main(): Promise<void> {
   const [set, dir, n] = process.argv.slice(2);
-  if (set !== 'train' && set !== 'lowsun' && set !== 'val' && set !== 'eval' && set !== 'fresh' && set !== 'tiling') throw new Error('usage: make-scenes.ts train|lowsun|val|eval|fresh|tiling DIR [count]');
+  if (!SETS.includes(set as SceneSet)) throw new Error(`usage: make-scenes.ts ${SETS.join('|')} DIR [count]`);
   mkdirSync(dir, { recursive: true });
-  for (const o of sceneSet(set, Number(n ?? (set === 'train' ? 40 : set === 'val' ? 4 : 10)))) {
+  for (const o of sceneSet(set as SceneSet, Number(n ?? (set === 'train' ? 40 : set === 'val' || set === 'val-lowsun' ? 4 : 10)))) {
     const p = makeSceneParams(o);
     const tif = join(dir, `${p.name}.tif`);
     if (existsSync(tif)) continue;

@@ -32,7 +32,11 @@ $TSX models/train/make-scenes.ts train "$WORK/scenes-train" 32
 $TSX models/train/make-scenes.ts lowsun "$WORK/scenes-lowsun" 40
 # seeds 141-180 of the same low-sun set, for stage 7 (the first 40 are the ones above)
 $TSX models/train/make-scenes.ts lowsun "$WORK/scenes-lowsun2" 80 && rm -f "$WORK"/scenes-lowsun2/lowsun-0[0-3]*
-$TSX models/train/make-scenes.ts val "$WORK/scenes-val" 4
+# validation: 16 summer town scenes (seeds 5001-5016) and 16 low-sun ones (seeds 5101-5116), pooled for thresholds
+$TSX models/train/make-scenes.ts val "$WORK/scenes-val" 16
+$TSX models/train/make-scenes.ts val-lowsun "$WORK/scenes-val-lowsun" 16
+mkdir -p "$WORK/scenes-valall"
+for f in "$WORK"/scenes-val/* "$WORK"/scenes-val-lowsun/*; do ln -sf "$(realpath "$f")" "$WORK/scenes-valall/"; done
 # chips exactly as the pipeline sees scenes (band roles, per-scene stretch from an overview, resampling to 0.3 m)
 $TSX models/train/chips.ts --scenes "$WORK/scenes-train" --out "$WORK/synth" --px 320 --step 240
 $TSX models/train/chips.ts --scenes "$WORK/scenes-lowsun" --out "$WORK/synth-lowsun" --px 320 --step 240
@@ -78,9 +82,14 @@ $T --sources "$WORK/synth" "$WORK/synth-lowsun" "$WORK/synth-lowsun2" "$WORK/pro
   --synth "$WORK/synth" "$WORK/synth-lowsun" "$WORK/synth-lowsun2" --init "$WORK/stage8a.pt" --freeze-bn --lr 1.5e-4 --warmup 30 \
   --minutes "${STAGE8B_MIN:-55}" --strong-aug --solar-frac 0.15 --wide-frac 0.25 --solar-size-w 3 --shadow-p 0.5 --seed 29 \
   --ckpt "$WORK/model.pt"
-# 4. ship: ONNX + sidecar; the validation scenes (seeds 5001-5004) show the best-F1 threshold
+# 4. ship: ONNX + sidecar; the pooled validation scenes (32, summer and low sun) show the best-F1 threshold per class
+#    in val.json's overall.*.bestF1: MIN_SCORE is their mean, rounded to 0.01
 $PY models/train/finalize.py "$WORK/model.pt" --min-score "${MIN_SCORE:-0.37}" --version 6
-$ST eval --model models/seamtally-det.onnx --scenes "$WORK/scenes-val" --out "$WORK/val.json" --quiet
+$ST eval --model models/seamtally-det.onnx --scenes "$WORK/scenes-valall" --out "$WORK/val.json" --quiet
+# the low-sun effect on counts (sidecar lowSun: the app's low-sun notes), from the two validation sets apart
+$ST eval --model models/seamtally-det.onnx --scenes "$WORK/scenes-val" --out "$WORK/val-high.json" --quiet
+$ST eval --model models/seamtally-det.onnx --scenes "$WORK/scenes-val-lowsun" --out "$WORK/val-low.json" --quiet
+$TSX models/train/low-sun.ts --high "$WORK/val-high.json" --low "$WORK/val-low.json" --sidecar models/seamtally-det.model.json
 # 5. held-out evaluation → quality curves in the sidecar; tiling invariance on a 4000 x 4000 scene
 EVAL_SET="10 held-out synthesizer scenes (models/train/make-scenes.ts eval): seeds 9001-9010, 2 per GSD 0.15/0.3/0.45/0.6/0.8 m, business-park (not in training) and town, Oct-Feb dates, all band layouts and bit depths; never used in training"
 $TSX models/train/make-scenes.ts eval "$WORK/scenes-eval" 10

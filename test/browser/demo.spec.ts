@@ -58,6 +58,10 @@ test('the demo opens with the shipped model, runs, and matches seamtally detect 
   const expected = cliDemoCounts(manifest, join('models', sidecar!.replace(/\.model\.json$/, '.onnx')), 'default');
   expect(Object.values(expected).some((c) => c > 0)).toBe(true);
   expect(browser).toEqual(expected);
+  // each date's noon sun at the scenes' centre (gdalinfo puts the demo at 9.17° E, 48.03° N): 14 March, declination
+  // about −2.6° (almanac, from memory) → 90 − |48.03 + 2.6| ≈ 39°; no low-sun note (the shipped line is 32°)
+  await expect(page.locator('[data-testid=tally] tr.datehead').first()).toContainText(/sun at most (38|39|40)° \(noon\)/);
+  await expect(page.locator('[data-low-sun]')).toHaveCount(0);
 
   await page.click('.tabs button[data-tab=compare]');
   await expect(page.locator('[data-testid=compare] tr[data-aoi]').first()).toBeVisible();

@@ -34,7 +34,7 @@ export function mountComparePanel(state: AppState, el: HTMLElement, getTally: ()
     const a = tally.find((t) => t.dateIso === selA.value);
     const b = tally.find((t) => t.dateIso === selB.value);
     if (!a || !b || a === b) { setChildren(table, h('p.muted', {}, 'Open scenes of two dates and run the detector to compare them.')); return; }
-    const rows = compareDates(a, b);
+    const rows = compareDates(a, b, state.model?.sidecar.lowSun);
     setChildren(table, h('table.grid', {},
       h('thead', {}, h('tr', {}, ...['Area', 'Class', a.dateIso, b.dateIso, 'Change', '%', 'p', 'Strength'].map((t, i) => h(i < 2 || i === 7 ? 'th.l' : 'th', {}, t)))),
       h('tbody', {}, ...rows.map((c) => h('tr', { dataset: { aoi: c.aoiName, cls: c.className, change: String(c.change) } },

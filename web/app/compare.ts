@@ -2,6 +2,8 @@
 // imaged areas as exposure, and why a comparison is weak (GSD, coverage or recall differ).
 import type { DateTally, TallyRow } from './tally.ts';
 import { comparePoissonCounts, type PoissonComparison } from '../core/poisson-stats.ts';
+import type { LowSunEffect } from '../core/model-contract.ts';
+import { sunDiffers } from '../core/sun-height.ts';
 
 /** Relative GSD difference above which a comparison is flagged (common practice, no source). */
 const GSD_RATIO_LIMIT = 1.25;
@@ -21,8 +23,8 @@ export interface Comparison {
   weakReasons: string[];
 }
 
-/** Compare every AOI × class between the tallies of two dates. */
-export function compareDates(a: DateTally, b: DateTally): Comparison[] {
+/** Compare every AOI × class between the tallies of two dates (lowSun: the model's measured low-sun effect). */
+export function compareDates(a: DateTally, b: DateTally, lowSun?: LowSunEffect): Comparison[] {
   const out: Comparison[] = [];
   for (const before of a.rows) {
     const after = b.rows.find((r) => r.aoiId === before.aoiId && r.className === before.className);
@@ -39,6 +41,10 @@ export function compareDates(a: DateTally, b: DateTally): Comparison[] {
       weakReasons.push(`model recall differs (${Math.round(ra * 100)} vs ${Math.round(rb * 100)} %)`);
     } else if ((ra === null) !== (rb === null) || before.caveat?.level !== after.caveat?.level) {
       weakReasons.push('resolution caveats differ');
+    }
+    if (sunDiffers(a.noonSunDeg, b.noonSunDeg, lowSun, before.className)) {
+      const bias = lowSun!.countBiasPct[before.className];
+      weakReasons.push(`sun height differs (at most ${Math.round(a.noonSunDeg!)}° vs ${Math.round(b.noonSunDeg!)}° at noon): under a sun below ${lowSun!.belowDeg}° the detector's ${before.className} counts ran ${bias > 0 ? '+' : '−'}${Math.abs(bias).toFixed(0)} % apart from a high sun's on test scenes`);
     }
     const test = before.imagedAreaHa > 0 && after.imagedAreaHa > 0
       ? comparePoissonCounts(after.count, after.imagedAreaHa, before.count, before.imagedAreaHa) : null;

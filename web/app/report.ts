@@ -30,9 +30,9 @@ export async function buildReport(state: AppState, view: MapView, tally: DateTal
   const [mapPng, chart] = await Promise.all([mapSnapshot(view), chartPng(tally)]);
   const m = state.model;
   const rows = tally.flatMap((t) => t.rows).map((r) => `<tr><td>${esc(r.aoiName)}</td><td>${r.date}</td><td>${esc(r.className)}</td><td><b>${r.count}</b></td><td>${r.detectedCount}</td><td>${r.reviewedCount}</td><td>${f(r.interval.lower, 1)}–${f(r.interval.upper, 1)}</td><td>${f(r.areaHa, 2)}</td><td>${f(r.densityPerHa, 2)}</td><td>${f(r.coverage * 100, 0)} %</td><td>${f(r.gsdM, 2)}</td><td>${r.caveat ? esc(r.caveat.level) : '–'}</td></tr>`).join('');
-  const comps = tally.length >= 2 ? compareDates(tally[0], tally[tally.length - 1]) : [];
+  const comps = tally.length >= 2 ? compareDates(tally[0], tally[tally.length - 1], state.model?.sidecar.lowSun) : [];
   const compRows = comps.map((c) => `<tr><td>${esc(c.aoiName)}</td><td>${esc(c.className)}</td><td>${c.before.count}</td><td>${c.after.count}</td><td>${c.change > 0 ? '+' : ''}${c.change}</td><td>${c.test ? f(c.test.pValue, 3) : '–'}</td><td>${c.weakReasons.length ? esc(c.weakReasons.join('; ')) : 'like for like'}</td></tr>`).join('');
-  const caveats = tally.flatMap((t) => [...t.caveats.map((c) => `<li>${t.dateIso} ${esc(c.className)}: ${esc(c.reason)}</li>`), t.upsampling ? `<li>${t.dateIso}: ${esc(t.upsampling)}</li>` : '']).join('');
+  const caveats = tally.flatMap((t) => [...t.caveats.map((c) => `<li>${t.dateIso} ${esc(c.className)}: ${esc(c.reason)}</li>`), t.upsampling ? `<li>${t.dateIso}: ${esc(t.upsampling)}</li>` : '', ...t.lowSun.map((n) => `<li>${t.dateIso} ${esc(n.className)}: ${esc(n.text)}</li>`)]).join('');
   const ap = m?.sidecar.quality?.ap50;
   const metrics = ap ? Object.entries(ap).map(([k, v]) => `${esc(k)} AP@0.5 ${f(v, 2)}`).join(', ') : 'no measured metrics in the sidecar';
   return `<!doctype html><html lang="en"><head><meta charset="utf-8"><title>seamtally report</title>

@@ -67,7 +67,7 @@ export function mountTallyPanel(state: AppState, el: HTMLElement, coverage: Cove
       setChildren(table, h('table.grid', {},
         h('thead', {}, h('tr', {}, ...headers.map(([t, title], i) => h(i < 2 || i === 9 ? 'th.l' : 'th', { title }, t)))),
         h('tbody', {}, ...tally.flatMap((d) => [
-          h('tr.datehead', {}, h('td.l', { colSpan: headers.length }, `${d.dateIso} · ${fmt(d.gsdM, 2)} m GSD · ${d.sceneNames.length} scene${d.sceneNames.length > 1 ? 's' : ''}`)),
+          h('tr.datehead', {}, h('td.l', { colSpan: headers.length }, `${d.dateIso} · ${fmt(d.gsdM, 2)} m GSD · ${d.sceneNames.length} scene${d.sceneNames.length > 1 ? 's' : ''}${d.noonSunDeg === null ? '' : ` · sun at most ${fmt(d.noonSunDeg, 0)}° (noon)`}`)),
           ...d.rows.map((r) => h('tr', { dataset: { aoi: r.aoiName, date: r.date, cls: r.className, count: String(r.count), detected: String(r.detectedCount), reviewed: String(r.reviewedCount), coverage: String(r.coverage) } },
             h('td.l', {}, r.aoiName), h(`td.l.cls-${r.className}`, {}, r.className),
             h('td', {}, h('b', {}, String(r.count))), h('td', {}, String(r.detectedCount)), h('td', {}, String(r.reviewedCount)),
@@ -79,6 +79,7 @@ export function mountTallyPanel(state: AppState, el: HTMLElement, coverage: Cove
     setChildren(notes, ...tally.flatMap((d) => [
       ...d.caveats.map((c) => h('div', {}, h(`span.${levelClass[c.level]}`, {}, `${d.dateIso} ${c.className}: `), c.reason)),
       d.upsampling ? h('div.weak', {}, `${d.dateIso}: ${d.upsampling}`) : null,
+      ...d.lowSun.map((n) => h('div.weak', { dataset: { lowSun: n.className } }, `${d.dateIso} ${n.className}: ${n.text}`)),
     ]));
   };
   const changed = () => {

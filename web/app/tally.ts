@@ -7,7 +7,9 @@ import { countPerAoi, type CountAoi, type CountRow } from '../core/counts.ts';
 import { reprojectAoi, type AoiInCrs } from '../core/aoi.ts';
 import type { CoverageService } from './coverage-service.ts';
 import { multiPolygonAreaM2 } from '../core/geodesic-area.ts';
-import { parseEpsgName } from '../core/crs.ts';
+import { createTransform, parseEpsgName } from '../core/crs.ts';
+import { pixelToMap } from '../core/geotransform.ts';
+import { lowSunNotes, noonSunElevationDeg, type LowSunNote } from '../core/sun-height.ts';
 import { garwoodInterval, type Interval } from '../core/poisson-stats.ts';
 import { resolutionCaveat, upsamplingNote, type ResolutionCaveat } from '../core/caveats.ts';
 
@@ -20,6 +22,26 @@ export interface DateTally {
   rows: TallyRow[];
   caveats: ResolutionCaveat[];
   upsampling: string | null;
+  /** The sun's elevation at local solar noon that date at the scenes' mean centre (the most it reached); null if unknown. */
+  noonSunDeg: number | null;
+  /** Classes whose counts the model measurably shifts under this date's low sun (from the sidecar's lowSun). */
+  lowSun: LowSunNote[];
+}
+
+/** Noon sun elevation on a date at the mean centre of its scenes; null when a scene cannot be placed on the globe. */
+export function noonSunForScenes(dateIso: string, scenes: SceneEntry[]): number | null {
+  if (!scenes.length) return null;
+  let lon = 0, lat = 0;
+  try {
+    for (const s of scenes) {
+      const g = s.info.georef;
+      const c = createTransform(g.epsg, 4326)(pixelToMap(g.geoTransform, g.widthPx / 2, g.heightPx / 2));
+      lon += c[0] / scenes.length; lat += c[1] / scenes.length;
+    }
+    return noonSunElevationDeg(dateIso, [lon, lat]);
+  } catch {
+    return null; // a CRS proj4 does not know or a date without a day: no sun figure, no sun note
+  }
 }
 
 /** AOIs reprojected into a frame and their geodesic areas, kept per AOI record (records are replaced on edit). */
@@ -58,6 +80,10 @@ export function computeTally(state: AppState, coverage: CoverageService): DateTa
       { minScore: state.minScore });
     const caveats = caveatsAt(state, gsdM);
     const rows = counts.map((r) => ({ ...r, interval: garwoodInterval(r.count), caveat: caveats.find((c) => c.className === r.className) ?? null }));
-    return { dateIso: d.dateIso, gsdM, sceneNames: scenes.map((s) => s.name), rows, caveats, upsampling: upsamplingNote(gsdM, model.sidecar.inputGsdM) };
+    const noonSunDeg = noonSunForScenes(d.dateIso, scenes);
+    return {
+      dateIso: d.dateIso, gsdM, sceneNames: scenes.map((s) => s.name), rows, caveats, upsampling: upsamplingNote(gsdM, model.sidecar.inputGsdM),
+      noonSunDeg, lowSun: lowSunNotes(noonSunDeg, model.sidecar.lowSun),
+    };
   });
 }

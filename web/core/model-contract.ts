@@ -51,6 +51,12 @@ import { SeamtallyError } from './errors.ts';
  *     "ap50": {"vehicle": 0.93},                   per class, 0..1 (PASCAL VOC all-point AP at IoU 0.5)
  *     "evalSet": "…"                               free text describing the evaluation set
  *   }
+ *   "lowSun": {                                    optional, measured on validation scenes under a low and a high sun
+ *     "belowDeg": 32,                              sun elevation (degrees, 0..90) below which the sun counts as low
+ *     "countBiasPct": {"vehicle": 8},              per class: mean signed per-AOI count error under a low sun minus
+ *                                                  that under a high sun, in percent (-100..1000)
+ *     "source": "…"                                free text: which scenes
+ *   }
  * }
  * Unknown top-level fields are ignored (so later minor additions stay readable). The text may be at most
  * MAX_SIDECAR_BYTES long; files are treated as untrusted.
@@ -100,7 +106,11 @@ export interface ModelSidecar {
   minScore?: number;
   objects?: Record<string, ObjectSpec>;
   quality?: QualityCurves;
+  lowSun?: LowSunEffect;
 }
+
+/** How the model's counts move under a low sun (long shadows), measured on validation scenes. */
+export interface LowSunEffect { belowDeg: number; countBiasPct: Record<string, number>; source?: string }
 
 type Obj = Record<string, unknown>;
 
@@ -228,6 +238,17 @@ export function validateSidecar(value: unknown): ModelSidecar {
     });
   }
   if (s.quality !== undefined) out.quality = parseQuality(s.quality, classes);
+  if (s.lowSun !== undefined) {
+    const l = obj(s.lowSun, 'lowSun');
+    out.lowSun = {
+      belowDeg: posNum(l.belowDeg, 'lowSun.belowDeg', 90),
+      countBiasPct: perClass(l.countBiasPct, 'lowSun.countBiasPct', classes, (x, f) => num(x, f, -100, 1000, 'a percentage from -100 to 1000')),
+    };
+    if (l.source !== undefined) {
+      if (typeof l.source !== 'string' || l.source.length > 4096) fail('lowSun.source', 'a string of at most 4096 characters');
+      out.lowSun.source = l.source;
+    }
+  }
   return out;
 }
 

@@ -15,6 +15,7 @@ const VALID = {
   minScore: 0.3,
   objects: { vehicle: { criticalDimM: 1.8, maxExtentM: 7 }, solar_panel: { criticalDimM: 1.0, maxExtentM: 40 } },
   quality: { gsdM: [0.15, 0.3, 0.45, 0.6, 0.8], recall: { vehicle: [0.97, 0.95, 0.9, 0.7, 0.4] }, ap50: { vehicle: 0.93 }, evalSet: 'held-out seeds' },
+  lowSun: { belowDeg: 32, countBiasPct: { vehicle: 7.7, solar_panel: -2 }, source: 'validation scenes' },
 };
 const clone = () => JSON.parse(JSON.stringify(VALID));
 
@@ -34,6 +35,7 @@ describe('parseSidecar', () => {
     expect(sc.output).toEqual(VALID.output);
     expect(sc.objects?.vehicle.maxExtentM).toBe(7);
     expect(sc.summary).toBe('a tiny test model');
+    expect(sc.lowSun).toEqual(VALID.lowSun);
     expect(sidecarOutputNames(sc)).toEqual(['hm', 'wh', 'reg']);
     const b = clone(); b.output = { layout: 'boxes', boxes: 'det' };
     expect(parseSidecar(JSON.stringify(b)).output).toEqual({ layout: 'boxes', boxes: 'det' });
@@ -57,6 +59,9 @@ describe('parseSidecar', () => {
     ['quality.gsdM', (s) => { s.quality.gsdM = [0.3, 0.15, 0.45, 0.6, 0.8]; }],
     ['quality.recall.vehicle', (s) => { s.quality.recall.vehicle = [0.9, 0.8]; }],
     ['quality.recall.vehicle[0]', (s) => { s.quality.recall.vehicle[0] = 1.2; }],
+    ['lowSun.belowDeg', (s) => { s.lowSun.belowDeg = 95; }],
+    ['lowSun.countBiasPct.truck', (s) => { s.lowSun.countBiasPct.truck = 5; }],
+    ['lowSun.countBiasPct.vehicle', (s) => { s.lowSun.countBiasPct.vehicle = '8 %'; }],
     ['maxTilePx', (s) => { s.maxTilePx = 256; }], // below tilePx
     ['maxTilePx', (s) => { s.tileAlignPx = 32; s.maxTilePx = 1000; }], // not a multiple of the alignment
     ['tileAlignPx', (s) => { s.tileAlignPx = 48; }], // does not divide tilePx 512
