@@ -127,3 +127,59 @@ def fake_shadows(img, objs, rng, px_per_m=1 / 0.3):
         inside = np.clip(1.5 - np.maximum(np.abs(u) / (ln / 2), np.abs(v) / (wd / 2)) * 1.5 + 0.5, 0, 1)
         out *= (1 - inside * rng.uniform(0.35, 0.65))[..., None]
     return out
+
+
+def shade_regions(img, rng):
+    """Unlabelled building-like shade over part of the chip (stage 9): a soft-edged half-plane or wide rotated band,
+    darkened to 25-60 % with a slight blue cast (sky light only), over objects and ground alike, so that being dark
+    and in shade is not a cue for "car" (the false positives of version 6 are mostly shaded empty stalls)."""
+    h, w = img.shape[:2]
+    yy, xx = np.mgrid[0:h, 0:w].astype(np.float32)
+    a = rng.uniform(0, 2 * math.pi)
+    cx, cy = rng.uniform(0.2, 0.8) * w, rng.uniform(0.2, 0.8) * h
+    u = (xx - cx) * math.cos(a) + (yy - cy) * math.sin(a)
+    soft = rng.uniform(0.7, 4.0)
+    inside = np.clip(0.5 - u / (2 * soft), 0, 1)  # half-plane
+    if rng.random() < 0.5:  # a band: a building's shadow across a car park
+        v = -(xx - cx) * math.sin(a) + (yy - cy) * math.cos(a)
+        half = rng.uniform(0.15, 0.5) * max(h, w)
+        inside *= np.clip(0.5 + (half - np.abs(v)) / (2 * soft), 0, 1)
+    f = rng.uniform(0.25, 0.6)
+    tint = np.array([rng.uniform(0.88, 1.0), rng.uniform(0.95, 1.02), rng.uniform(1.0, 1.15)], np.float32)
+    gain = 1 - inside[..., None] * (1 - f * tint)
+    return np.clip(img * gain, 0, 255)
+
+
+def beside_shadows(img, objs, rng):
+    """Unlabelled car-footprint dark patches where a car could be but is not (stage 9): beside a labelled vehicle,
+    one stall away across its axis or a car length along it or its cast-shadow side, only where no labelled object
+    is near, multiplied in so the ground texture (stall lines) stays."""
+    h, w = img.shape[:2]
+    out = img.copy()
+    cars = objs[objs[:, 0] == 0] if len(objs) else objs
+    if len(cars) == 0:
+        return out
+    yy, xx = np.mgrid[0:h, 0:w].astype(np.float32)
+    for k in rng.permutation(len(cars))[: int(rng.integers(1, 7))]:
+        _, cx, cy, L, W, ang, _ = cars[k]
+        if W > L:
+            L, W, ang = W, L, ang + math.pi / 2
+        ca, sa = math.cos(ang), math.sin(ang)
+        kind = rng.random()
+        if kind < 0.5:  # neighbouring stall: across the axis, ~1.3-1.6 widths
+            d = rng.choice([-1, 1]) * W * rng.uniform(1.25, 1.6)
+            px, py, pa = cx - sa * d, cy + ca * d, ang
+        else:  # a car length away in any direction (cast shadow, next car in a row)
+            t = rng.uniform(0, 2 * math.pi)
+            d = L * rng.uniform(0.7, 1.1)
+            px, py, pa = cx + math.cos(t) * d, cy + math.sin(t) * d, ang + rng.uniform(-0.3, 0.3)
+        if not (0 <= px < w and 0 <= py < h):
+            continue
+        if (np.hypot(objs[:, 1] - px, objs[:, 2] - py) < 0.8 * W + 2).any():
+            continue
+        ln, wd = L * rng.uniform(0.8, 1.3), W * rng.uniform(0.8, 1.2)
+        u = (xx - px) * math.cos(pa) + (yy - py) * math.sin(pa)
+        v = -(xx - px) * math.sin(pa) + (yy - py) * math.cos(pa)
+        inside = np.clip(1.5 - np.maximum(np.abs(u) / (ln / 2), np.abs(v) / (wd / 2)) * 1.5 + 0.5, 0, 1)
+        out *= (1 - inside * rng.uniform(0.3, 0.7))[..., None]
+    return out

@@ -15,7 +15,7 @@ import torch.nn.functional as F
 sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
 from model import SeamtallyDet, CLASSES  # noqa: E402
 from targets import build, dihedral, MAX_OBJ  # noqa: E402
-from degrade import jitter, strong_jitter, fake_shadows  # noqa: E402
+from degrade import jitter, strong_jitter, fake_shadows, shade_regions, beside_shadows  # noqa: E402
 
 
 def load_shard(path):
@@ -95,7 +95,8 @@ def focal_loss(logits, gt, ignore):
     return -(pos_l.sum() + neg_l.sum()) / torch.clamp(npos, min=1.0)
 
 
-def make_batch(pool, rng, bs, px, weights, synth_dirs, strong=False, solar_frac=0.0, shadow_p=0.0, wide_frac=0.0, size_w=None):
+def make_batch(pool, rng, bs, px, weights, synth_dirs, strong=False, solar_frac=0.0, shadow_p=0.0, wide_frac=0.0, size_w=None,
+               shade_p=0.0, beside_p=0.0):
     xs, hms, igs, inds, regs, wts = [], [], [], [], [], []
     for _ in range(bs):
         d, (img, objs) = pool.sample(rng, weights, solar_frac, wide_frac)
@@ -109,6 +110,10 @@ def make_batch(pool, rng, bs, px, weights, synth_dirs, strong=False, solar_frac=
         img = img.astype(np.float32)
         if shadow_p > 0 and rng.random() < shadow_p:
             img = fake_shadows(img, objs, rng)
+        if beside_p > 0 and rng.random() < beside_p:
+            img = beside_shadows(img, objs, rng)
+        if shade_p > 0 and rng.random() < shade_p:
+            img = shade_regions(img, rng)
         if strong:
             img = strong_jitter(img, rng)
         elif d in synth_dirs:
@@ -153,6 +158,8 @@ def main():
     ap.add_argument("--wide-frac", type=float, default=0.0, help="share of chips drawn from those with a wide (>= 6 m) array")
     ap.add_argument("--solar-size-w", type=float, default=1.0, help="weight of the size loss of solar_panel objects (vehicles: 1)")
     ap.add_argument("--shadow-p", type=float, default=0.0, help="chance of unlabelled fake cast shadows per chip")
+    ap.add_argument("--shade-p", type=float, default=0.0, help="chance of unlabelled building-like shade over part of a chip")
+    ap.add_argument("--beside-p", type=float, default=0.0, help="chance of unlabelled car-sized dark patches beside labelled cars")
     ap.add_argument("--warmup", type=int, default=150, help="warm-up steps")
     ap.add_argument("--freeze-bn", action="store_true",
                     help="keep BatchNorm in inference mode (needed when --init comes from from_onnx.py)")
@@ -186,7 +193,8 @@ def main():
             for mod in model.modules():
                 if isinstance(mod, torch.nn.BatchNorm2d):
                     mod.eval()
-        batch = make_batch(pool, rng, a.bs, a.px, weights, set(a.synth), a.strong_aug, a.solar_frac, a.shadow_p, a.wide_frac, [1.0, a.solar_size_w])
+        batch = make_batch(pool, rng, a.bs, a.px, weights, set(a.synth), a.strong_aug, a.solar_frac, a.shadow_p, a.wide_frac, [1.0, a.solar_size_w],
+                           a.shade_p, a.beside_p)
         l_hm, l_size, l_off, l_ang = losses(model, batch)
         loss = l_hm + 0.5 * l_size + l_off + 0.5 * l_ang
         opt.zero_grad()
