@@ -7,11 +7,10 @@ import { countPerAoi, type CountAoi, type CountRow } from '../core/counts.ts';
 import { reprojectAoi, type AoiInCrs } from '../core/aoi.ts';
 import type { CoverageService } from './coverage-service.ts';
 import { multiPolygonAreaM2 } from '../core/geodesic-area.ts';
-import { createTransform, parseEpsgName } from '../core/crs.ts';
-import { pixelToMap } from '../core/geotransform.ts';
-import { lowSunNotes, noonSunElevationDeg, type LowSunNote } from '../core/sun-height.ts';
+import { parseEpsgName } from '../core/crs.ts';
+import { lowSunNotes, noonSunOverScenes, type LowSunNote } from '../core/sun-height.ts';
 import { garwoodInterval, type Interval } from '../core/poisson-stats.ts';
-import { resolutionCaveat, upsamplingNote, type ResolutionCaveat } from '../core/caveats.ts';
+import { sidecarCaveats, upsamplingNote, type ResolutionCaveat } from '../core/caveats.ts';
 
 export interface TallyRow extends CountRow { interval: Interval; caveat: ResolutionCaveat | null }
 
@@ -30,18 +29,7 @@ export interface DateTally {
 
 /** Noon sun elevation on a date at the mean centre of its scenes; null when a scene cannot be placed on the globe. */
 export function noonSunForScenes(dateIso: string, scenes: SceneEntry[]): number | null {
-  if (!scenes.length) return null;
-  let lon = 0, lat = 0;
-  try {
-    for (const s of scenes) {
-      const g = s.info.georef;
-      const c = createTransform(g.epsg, 4326)(pixelToMap(g.geoTransform, g.widthPx / 2, g.heightPx / 2));
-      lon += c[0] / scenes.length; lat += c[1] / scenes.length;
-    }
-    return noonSunElevationDeg(dateIso, [lon, lat]);
-  } catch {
-    return null; // a CRS proj4 does not know or a date without a day: no sun figure, no sun note
-  }
+  return noonSunOverScenes(dateIso, scenes.map((s) => s.info.georef));
 }
 
 /** AOIs reprojected into a frame and their geodesic areas, kept per AOI record (records are replaced on edit). */
@@ -57,12 +45,7 @@ function countAoi(aoi: AoiRecord, frameEpsg: number, scenes: SceneEntry[], cover
 
 /** Caveats for every class at a GSD, from the model's sidecar (objects' critical dimension, recall-vs-GSD curve). */
 export function caveatsAt(state: AppState, gsdM: number): ResolutionCaveat[] {
-  const sc = state.model?.sidecar;
-  if (!sc) return [];
-  return sc.classes.flatMap((className) => {
-    const dim = sc.objects?.[className]?.criticalDimM;
-    return dim ? [resolutionCaveat({ className, gsdM, criticalDimM: dim, quality: sc.quality })] : [];
-  });
+  return state.model ? sidecarCaveats(state.model.sidecar, gsdM) : [];
 }
 
 /** The whole tally for the current results, threshold, review and areas. */

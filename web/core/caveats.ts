@@ -1,5 +1,5 @@
 // Resolution caveats: pixels across an object at a GSD, the model's measured recall there, and a plain-words level.
-import type { QualityCurves } from './model-contract.ts';
+import type { ModelSidecar, QualityCurves } from './model-contract.ts';
 
 /**
  * Johnson criteria (J. Johnson, 1958, "Analysis of image forming systems", Image Intensifier Symposium): about
@@ -91,4 +91,12 @@ function cap(s: string): string { return s.charAt(0).toUpperCase() + s.slice(1);
 export function upsamplingNote(sceneGsdM: number, modelGsdM: number): string | null {
   if (!(sceneGsdM > modelGsdM * (1 + 1e-6))) return null;
   return `This scene (${fmt(sceneGsdM, 2)} m GSD) is upsampled to the model's ${fmt(modelGsdM, 2)} m. Upsampling adds no information: objects keep only the detail of ${fmt(sceneGsdM, 2)} m.`;
+}
+
+/** One caveat per class of a model at a GSD, for the classes whose sidecar gives an object's critical dimension. */
+export function sidecarCaveats(sidecar: Pick<ModelSidecar, 'classes' | 'objects' | 'quality'>, gsdM: number): ResolutionCaveat[] {
+  return sidecar.classes.flatMap((className) => {
+    const dim = sidecar.objects?.[className]?.criticalDimM;
+    return dim ? [resolutionCaveat({ className, gsdM, criticalDimM: dim, quality: sidecar.quality })] : [];
+  });
 }

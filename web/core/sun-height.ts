@@ -2,6 +2,9 @@
 // at that place (the sun position comes from the suncalc library). Scenes rarely say their acquisition time, so the
 // app uses this upper bound: a scene taken that day had the sun at most this high, and long shadows when it is low.
 import { getPosition, getTimes } from 'suncalc';
+import { createTransform } from './crs.ts';
+import { pixelToMap } from './geotransform.ts';
+import type { SceneGeoref } from './georef.ts';
 import type { LowSunEffect } from './model-contract.ts';
 
 /** The sun's apparent elevation at local solar noon on a calendar date (YYYY-MM-DD) at a place, in degrees. */
@@ -14,6 +17,24 @@ export function noonSunElevationDeg(dateIso: string, lonLat: readonly [number, n
   const middayMs = Date.UTC(Number(m[1]), Number(m[2]) - 1, Number(m[3]), 12) - (lon / 15) * 3_600_000;
   const noon = getTimes(new Date(middayMs), lat, lon).solarNoon;
   return getPosition(noon, lat, lon).altitude;
+}
+
+/**
+ * Noon sun elevation on a date at the mean centre of a date's scenes (lon/lat of each centre, averaged); null when
+ * there are no scenes, a scene's CRS cannot be turned into lon/lat, or the date has no day (e.g. "unknown").
+ */
+export function noonSunOverScenes(dateIso: string, georefs: readonly Pick<SceneGeoref, 'epsg' | 'geoTransform' | 'widthPx' | 'heightPx'>[]): number | null {
+  if (!georefs.length) return null;
+  let lon = 0, lat = 0;
+  try {
+    for (const g of georefs) {
+      const c = createTransform(g.epsg, 4326)(pixelToMap(g.geoTransform, g.widthPx / 2, g.heightPx / 2));
+      lon += c[0] / georefs.length; lat += c[1] / georefs.length;
+    }
+    return noonSunElevationDeg(dateIso, [lon, lat]);
+  } catch {
+    return null; // a CRS proj4 does not know or a date without a day: no sun figure, no sun note
+  }
 }
 
 /** What a low sun does to one class's counts, for a date whose noon sun is known. */

@@ -137,6 +137,45 @@ describe('tiling invariance (fixture model, bright squares at known positions)',
   });
 });
 
+describe('notes in counts.json and on stderr (the app\'s caveats, upsampling and low-sun notes)', () => {
+  it('scene B (0.5 m, upsampled to 0.3 m) on the December solstice with a sidecar that declares a low-sun shift', async () => {
+    const m = join(dir, 'sunny.onnx');
+    copyFileSync(MODEL, m);
+    const sc = JSON.parse(readFileSync('test/fixtures/fixture-model.model.json', 'utf8'));
+    sc.lowSun = { belowDeg: 32, countBiasPct: { blob: 6 } };
+    writeFileSync(join(dir, 'sunny.model.json'), JSON.stringify(sc));
+    const out = join(dir, 'out-notes');
+    const r = await cli([fx.pathB, '--aoi', fx.aoiAll, '--model', m, '--out', out, '--tile', '96', '--date', '2024-12-21']);
+    expect(r.rc, r.err).toBe(0);
+    const notes = (JSON.parse(readFileSync(join(out, 'counts.json'), 'utf8')) as { notes: { gsdM: number; caveats: { className: string; pxAcross: number; level: string }[]; upsampling: string | null; noonSunDeg: number; lowSun: { className: string }[] } }).notes;
+    expect(notes.gsdM).toBeCloseTo(0.5, 3);
+    // 3.3 m across / 0.5 m GSD = 6.6 px: above Johnson detection (2 px), below recognition (8 px), no measured recall
+    expect(notes.caveats).toHaveLength(1);
+    expect(notes.caveats[0].pxAcross).toBeCloseTo(6.6, 2);
+    expect(notes.caveats[0].level).toBe('use-with-care');
+    expect(notes.upsampling).toMatch(/upsampled to the model's 0\.3 m/);
+    // Noon sun at ~48° N on the December solstice: 90° − φ − 23.44° (spherical astronomy, common practice)
+    expect(Math.abs(notes.noonSunDeg - (90 - 48 - 23.44))).toBeLessThan(0.6);
+    expect(notes.lowSun.map((n) => n.className)).toEqual(['blob']);
+    if (process.env.SHOW_ERRORS) console.log(r.err.trim());
+    expect(r.err).toMatch(/blob at 0\.5 m GSD: use with care/);
+    expect(r.err).toMatch(/Upsampling adds no information/);
+    expect(r.err).toMatch(/Low sun: at most 19° at noon/);
+    expect(r.err).toMatch(/estimates.*verify/);
+  });
+
+  it('scene A at the model GSD in June: no upsampling and no low-sun note', async () => {
+    const out = join(dir, 'out-notes-june');
+    const r = await cli([fx.pathA, '--aoi', fx.aoiAll, '--model', MODEL, '--out', out, '--tile', '96', '--date', '2024-06-20', '--quiet']);
+    expect(r.rc, r.err).toBe(0);
+    expect(r.err).toBe('');
+    const notes = (JSON.parse(readFileSync(join(out, 'counts.json'), 'utf8')) as { notes: { upsampling: string | null; noonSunDeg: number; lowSun: unknown[] } }).notes;
+    expect(notes.upsampling).toBeNull();
+    expect(Math.abs(notes.noonSunDeg - (90 - 48 + 23.44))).toBeLessThan(0.6);
+    expect(notes.lowSun).toEqual([]);
+  });
+});
+
 describe('the real command line', () => {
   it('`node bin/seamtally.mjs detect` (plain Node ESM through tsx, no vitest interop) writes the three files', () => {
     const out = join(dir, 'out-bin');
