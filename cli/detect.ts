@@ -4,7 +4,7 @@ import { basename, join } from 'node:path';
 import { parseArgs } from 'node:util';
 import { parseAois, reprojectAoi, type AoiInCrs } from '../web/core/aoi.ts';
 import { countPerAoi, type CountAoi } from '../web/core/counts.ts';
-import { sidecarCaveats, upsamplingNote } from '../web/core/caveats.ts';
+import { dateNotes } from '../web/core/date-notes.ts';
 import { aoiCoverage, frameToScenePxMapping, type CoverageMask } from '../web/core/coverage.ts';
 import { epsgName } from '../web/core/crs.ts';
 import { SeamtallyError } from '../web/core/errors.ts';
@@ -15,7 +15,6 @@ import { parseSidecar, type ModelSidecar } from '../web/core/model-contract.ts';
 import { prepareScene, runFrameEpsg, runScene, type ScenePipeline, type TileTimings } from '../web/core/pipeline.ts';
 import { COUNTING_RULE } from '../web/core/point-in-polygon.ts';
 import type { SceneSource } from '../web/core/scene-source.ts';
-import { lowSunNotes, noonSunOverScenes } from '../web/core/sun-height.ts';
 import { mergeDetectionTables } from '../web/core/seam-merge.ts';
 import type { DetectionTable } from '../web/core/types.ts';
 import { readValidMask } from '../web/core/valid-mask.ts';
@@ -205,15 +204,11 @@ export async function run(argv: string[]): Promise<number> {
     const plans = pipelines.map((p) => ({ scene: p.source.info.name, tilePx: p.plan.tilePx, overlapPx: p.plan.overlapPx, tiles: p.plan.tiles.length, overheadRatio: p.plan.overheadRatio, bands: p.bands.indices.map((b) => b + 1), stretch: p.stretch }));
     const timing = { tilesRun, msPerTile: tilesRun ? { read: totals.readMs / tilesRun, resampleNormalise: totals.resampleMs / tilesRun, infer: totals.inferMs / tilesRun, decode: totals.decodeMs / tilesRun } : null, mergeMs, totalMs: performance.now() - started };
     // The same notes the app's tally shows: resolution caveats at the coarsest scene's GSD, upsampling, low sun.
-    const noonSunDeg = noonSunOverScenes(date, sources.map((s) => s.info.georef));
-    const notes = {
-      gsdM, caveats: sidecarCaveats(sidecar, gsdM), upsampling: upsamplingNote(gsdM, sidecar.inputGsdM),
-      noonSunDeg, lowSun: lowSunNotes(noonSunDeg, sidecar.lowSun),
-    };
+    const notes = { gsdM, ...dateNotes(sidecar, gsdM, date, sources.map((s) => s.info.georef)) };
     writeAtomic(join(args.out, 'counts.json'), JSON.stringify(countsToJson(rows, COUNTING_RULE, { model: sidecar.name ?? basename(args.model), frameCrs: detections.frameCrs, date, scenes: scenesMeta, tiling: plans, timing, notes }), null, 2) + '\n');
     if (!args.quiet) {
       for (const r of rows) process.stderr.write(`${r.aoiName} ${r.date} ${r.className}: ${r.count} (coverage ${(r.coverage * 100).toFixed(1)} %)\n`);
-      for (const c of notes.caveats) if (c.level !== 'reliable') process.stderr.write(`${c.className} at ${c.gsdM} m GSD: ${c.level.replace(/-/g, ' ')}. ${c.reason}\n`);
+      for (const c of notes.caveats) if (c.level !== 'reliable') process.stderr.write(`${c.className} at ${Number(c.gsdM.toFixed(2))} m GSD: ${c.level.replace(/-/g, ' ')}. ${c.reason}\n`);
       if (notes.upsampling) process.stderr.write(`${notes.upsampling}\n`);
       for (const n of notes.lowSun) process.stderr.write(`${n.text}\n`);
       process.stderr.write(`Counts are estimates from an automatic detector: verify a sample before acting on them; counts.json states the counting rule and these notes.\n`);

@@ -8,28 +8,17 @@ import { reprojectAoi, type AoiInCrs } from '../core/aoi.ts';
 import type { CoverageService } from './coverage-service.ts';
 import { multiPolygonAreaM2 } from '../core/geodesic-area.ts';
 import { parseEpsgName } from '../core/crs.ts';
-import { lowSunNotes, noonSunOverScenes, type LowSunNote } from '../core/sun-height.ts';
 import { garwoodInterval, type Interval } from '../core/poisson-stats.ts';
-import { sidecarCaveats, upsamplingNote, type ResolutionCaveat } from '../core/caveats.ts';
+import type { ResolutionCaveat } from '../core/caveats.ts';
+import { dateNotes, type DateNotes } from '../core/date-notes.ts';
 
 export interface TallyRow extends CountRow { interval: Interval; caveat: ResolutionCaveat | null }
 
-export interface DateTally {
+export interface DateTally extends DateNotes {
   dateIso: string;
   gsdM: number;
   sceneNames: string[];
   rows: TallyRow[];
-  caveats: ResolutionCaveat[];
-  upsampling: string | null;
-  /** The sun's elevation at local solar noon that date at the scenes' mean centre (the most it reached); null if unknown. */
-  noonSunDeg: number | null;
-  /** Classes whose counts the model measurably shifts under this date's low sun (from the sidecar's lowSun). */
-  lowSun: LowSunNote[];
-}
-
-/** Noon sun elevation on a date at the mean centre of its scenes; null when a scene cannot be placed on the globe. */
-export function noonSunForScenes(dateIso: string, scenes: SceneEntry[]): number | null {
-  return noonSunOverScenes(dateIso, scenes.map((s) => s.info.georef));
 }
 
 /** AOIs reprojected into a frame and their geodesic areas, kept per AOI record (records are replaced on edit). */
@@ -41,11 +30,6 @@ function countAoi(aoi: AoiRecord, frameEpsg: number, scenes: SceneEntry[], cover
   let c = m.get(frameEpsg);
   if (!c) { c = { inFrame: reprojectAoi(aoi, frameEpsg), areaM2: multiPolygonAreaM2(aoi.polygonsLonLat) }; m.set(frameEpsg, c); }
   return { aoi: c.inFrame, areaM2: c.areaM2, coverage: coverage.get(aoi, c.inFrame, scenes) ?? NaN };
-}
-
-/** Caveats for every class at a GSD, from the model's sidecar (objects' critical dimension, recall-vs-GSD curve). */
-export function caveatsAt(state: AppState, gsdM: number): ResolutionCaveat[] {
-  return state.model ? sidecarCaveats(state.model.sidecar, gsdM) : [];
 }
 
 /** The whole tally for the current results, threshold, review and areas. */
@@ -61,12 +45,8 @@ export function computeTally(state: AppState, coverage: CoverageService): DateTa
     const aois = state.aois.map((a) => countAoi(a, frameEpsg, scenes, coverage));
     const counts = countPerAoi({ detections: rt.table, classes: model.sidecar.classes, review: rt.review, aois, date: d.dateIso, gsdM },
       { minScore: state.minScore });
-    const caveats = caveatsAt(state, gsdM);
-    const rows = counts.map((r) => ({ ...r, interval: garwoodInterval(r.count), caveat: caveats.find((c) => c.className === r.className) ?? null }));
-    const noonSunDeg = noonSunForScenes(d.dateIso, scenes);
-    return {
-      dateIso: d.dateIso, gsdM, sceneNames: scenes.map((s) => s.name), rows, caveats, upsampling: upsamplingNote(gsdM, model.sidecar.inputGsdM),
-      noonSunDeg, lowSun: lowSunNotes(noonSunDeg, model.sidecar.lowSun),
-    };
+    const notes = dateNotes(model.sidecar, gsdM, d.dateIso, scenes.map((s) => s.info.georef));
+    const rows = counts.map((r) => ({ ...r, interval: garwoodInterval(r.count), caveat: notes.caveats.find((c) => c.className === r.className) ?? null }));
+    return { dateIso: d.dateIso, gsdM, sceneNames: scenes.map((s) => s.name), rows, ...notes };
   });
 }

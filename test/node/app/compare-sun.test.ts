@@ -1,7 +1,8 @@
 // Comparing dates under different suns: the noon sun of a date's scenes and the weak-comparison flag it raises.
 import { describe, it, expect } from 'vitest';
 import { compareDates } from '../../../web/app/compare.ts';
-import { noonSunForScenes, type DateTally, type TallyRow } from '../../../web/app/tally.ts';
+import { type DateTally, type TallyRow } from '../../../web/app/tally.ts';
+import { noonSunOverScenes } from '../../../web/core/sun-height.ts';
 import type { SceneEntry } from '../../../web/app/state.ts';
 
 // A scene centred on UTM zone 32N (EPSG:32632) easting 500 000 m, northing 5 316 000 m: on the zone's central
@@ -20,9 +21,9 @@ function tally(date: string, noonSunDeg: number | null, count: number): DateTall
 
 describe('the sun of a date', () => {
   it('is the noon sun at the scenes\' centre: 90° − |φ − δ| at 48° N on the solstices (spherical astronomy, common practice)', () => {
-    expect(Math.abs(noonSunForScenes('2024-12-21', [scene])! - (90 - 48 - 23.44))).toBeLessThan(0.5);
-    expect(Math.abs(noonSunForScenes('2024-06-20', [scene])! - (90 - 48 + 23.44))).toBeLessThan(0.5);
-    expect(noonSunForScenes('2024-06-20', [])).toBeNull();
+    expect(Math.abs(noonSunOverScenes('2024-12-21', [scene.info.georef])! - (90 - 48 - 23.44))).toBeLessThan(0.5);
+    expect(Math.abs(noonSunOverScenes('2024-06-20', [scene.info.georef])! - (90 - 48 + 23.44))).toBeLessThan(0.5);
+    expect(noonSunOverScenes('2024-06-20', [])).toBeNull();
   });
   it('flags a winter-against-summer comparison for a class the model shifts under a low sun, and says by how much', () => {
     const lowSun = { belowDeg: 32, countBiasPct: { vehicle: 7.7 } };
