@@ -1,6 +1,7 @@
 """CenterNet training targets (Zhou et al. 2019): per-class Gaussian heatmaps at stride 4, and at each object's
 centre cell the regression targets log(length), log(width), sub-cell offset and (cos 2a, sin 2a) of the length-axis
-angle a (pixel frame, y down). Objects mostly hidden (visible fraction < MIN_VISIBLE) are ignored, not negatives."""
+angle a (pixel frame, y down). An object with angle NaN (real labels: an axis-aligned box whose length and width are
+its x and y extents, or a point given a nominal extent) trains the heatmap and the offset only. Objects mostly hidden (visible fraction < MIN_VISIBLE) are ignored, not negatives."""
 import math
 import numpy as np
 
@@ -47,18 +48,27 @@ def build(objs, size_px, num_classes, size_w=None):
         c = int(c)
         if not (0 <= cx < size_px and 0 <= cy < size_px):
             continue
-        if W > L:  # the length axis is the longer side: swap and turn the axis a quarter turn with it
+        unknown = math.isnan(ang)  # real labels: axis-aligned box (L = x extent, W = y extent) or a point
+        if W > L and not unknown:  # the length axis is the longer side: swap and turn the axis a quarter turn with it
             L, W, ang = W, L, ang + math.pi / 2
         fx, fy = cx / STRIDE, cy / STRIDE
         ix, iy = min(n - 1, int(fx)), min(n - 1, int(fy))
-        ext = 0.5 * (L * abs(math.cos(ang)) + W * abs(math.sin(ang))), 0.5 * (L * abs(math.sin(ang)) + W * abs(math.cos(ang)))
+        if unknown:
+            ext = 0.5 * L, 0.5 * W
+        else:
+            ext = 0.5 * (L * abs(math.cos(ang)) + W * abs(math.sin(ang))), 0.5 * (L * abs(math.sin(ang)) + W * abs(math.cos(ang)))
         r = max(1.0, gaussian_radius(2 * ext[1] / STRIDE, 2 * ext[0] / STRIDE))
         if vis < MIN_VISIBLE:
             rr = max(1, int(r) + 1)
             ignore[c, max(0, iy - rr):iy + rr + 1, max(0, ix - rr):ix + rr + 1] = 1
             continue
         draw_gaussian(hm[c], ix, iy, r)
-        if k < MAX_OBJ:
+        if k < MAX_OBJ and unknown:  # heatmap peak and centre offset only
+            ind[k] = iy * n + ix
+            reg[k] = [0.0, 0.0, fx - ix, fy - iy, 0.0, 0.0]
+            wt[k] = [0.0, 1.0, 0.0]
+            k += 1
+        elif k < MAX_OBJ:
             ind[k] = iy * n + ix
             reg[k] = [math.log(L), math.log(max(W, 0.5)), fx - ix, fy - iy, math.cos(2 * ang), math.sin(2 * ang)]
             wt[k] = [size_w[c] if size_w else 1.0, 1.0, min(1.0, 2.0 * (L / max(W, 1e-3) - 1.0))]
@@ -83,4 +93,6 @@ def dihedral(img, objs, k, size_px):
         img = img.transpose(1, 0, 2)
         o[:, [1, 2]] = o[:, [2, 1]]
         o[:, 5] = math.pi / 2 - o[:, 5]
+        unk = np.isnan(o[:, 5])  # axis-aligned extents swap with the axes
+        o[np.ix_(unk, [3, 4])] = o[np.ix_(unk, [4, 3])]
     return np.ascontiguousarray(img), o

@@ -95,8 +95,29 @@ def focal_loss(logits, gt, ignore):
     return -(pos_l.sum() + neg_l.sum()) / torch.clamp(npos, min=1.0)
 
 
+def colour_stats(pool, dirs):
+    """Per-band mean and standard deviation of every chip of the given sources (real photographs)."""
+    out = []
+    for d in dirs:
+        for img, _ in pool.chips.get(d, []):
+            x = img.reshape(-1, 3).astype(np.float32)
+            out.append((x.mean(0), x.std(0) + 1.0))
+    return out
+
+
+def real_colour(img, stats, rng):
+    """Give a chip the per-band mean and spread of a random real photograph (Reinhard-style colour transfer, per band
+    in RGB), half-way to fully."""
+    m, sd = stats[rng.integers(len(stats))]
+    x = img.reshape(-1, 3)
+    mi, si = x.mean(0), x.std(0) + 1.0
+    t = rng.uniform(0.5, 1.0)
+    target_m, target_s = mi + t * (m - mi), si + t * (sd - si)
+    return np.clip((img - mi) / si * target_s + target_m, 0, 255).astype(np.float32)
+
+
 def make_batch(pool, rng, bs, px, weights, synth_dirs, strong=False, solar_frac=0.0, shadow_p=0.0, wide_frac=0.0, size_w=None,
-               shade_p=0.0, beside_p=0.0):
+               shade_p=0.0, beside_p=0.0, colour=None, colour_p=0.0):
     xs, hms, igs, inds, regs, wts = [], [], [], [], [], []
     for _ in range(bs):
         d, (img, objs) = pool.sample(rng, weights, solar_frac, wide_frac)
@@ -114,6 +135,8 @@ def make_batch(pool, rng, bs, px, weights, synth_dirs, strong=False, solar_frac=
             img = beside_shadows(img, objs, rng)
         if shade_p > 0 and rng.random() < shade_p:
             img = shade_regions(img, rng)
+        if colour and d in synth_dirs and rng.random() < colour_p:
+            img = real_colour(img, colour, rng)
         if strong:
             img = strong_jitter(img, rng)
         elif d in synth_dirs:
@@ -131,7 +154,7 @@ def losses(model, batch):
     l_hm = focal_loss(out_hm, hm, ig)
     n, c, h, w = out_reg.shape
     pred = out_reg.view(n, c, h * w).gather(2, ind.unsqueeze(1).expand(n, c, MAX_OBJ)).permute(0, 2, 1)
-    m = (wt[..., 0] > 0).float()
+    m = (wt[..., 1] > 0).float()  # every object; real labels without size or angle have weight 0 there
     denom = torch.clamp(m.sum(), min=1.0)
     l_size = (F.l1_loss(pred[..., 0:2], reg[..., 0:2], reduction="none").sum(-1) * wt[..., 0]).sum() / denom
     l_off = (F.l1_loss(pred[..., 2:4], reg[..., 2:4], reduction="none").sum(-1) * m).sum() / denom
@@ -161,6 +184,9 @@ def main():
     ap.add_argument("--shade-p", type=float, default=0.0, help="chance of unlabelled building-like shade over part of a chip")
     ap.add_argument("--beside-p", type=float, default=0.0, help="chance of unlabelled car-sized dark patches beside labelled cars")
     ap.add_argument("--warmup", type=int, default=150, help="warm-up steps")
+    ap.add_argument("--colour-from", nargs="*", default=[], help="sources (real photographs) whose colour statistics "
+                    "synthesizer chips are given, with chance --colour-p")
+    ap.add_argument("--colour-p", type=float, default=0.0)
     ap.add_argument("--freeze-bn", action="store_true",
                     help="keep BatchNorm in inference mode (needed when --init comes from from_onnx.py)")
     a = ap.parse_args()
@@ -174,13 +200,25 @@ def main():
         time.sleep(10)
     if a.wide_frac > 0 or a.solar_frac > 0:
         print(f"chips with arrays: {len(pool.solar())}, with a wide array: {len(pool.wide())}", flush=True)
+    colour = colour_stats(pool, a.colour_from) if a.colour_p > 0 else None
     model = SeamtallyDet()
-    if a.init:
-        model.load_state_dict(torch.load(a.init)["model"])
     opt = torch.optim.Adam(model.parameters(), lr=a.lr)
     t0 = time.time()
     budget = a.minutes * 60
     step, last_ck, avg = 0, t0, None
+    if os.path.exists(a.ckpt):  # resume: a finished stage is skipped, an interrupted one goes on from its checkpoint
+        ck = torch.load(a.ckpt)
+        if ck.get("done"):
+            print(f"{a.ckpt} is finished ({ck['step']} steps): skipping", flush=True)
+            return
+        if "elapsed" in ck:
+            model.load_state_dict(ck["model"])
+            opt.load_state_dict(ck["opt"])
+            step, t0 = ck["step"], time.time() - ck["elapsed"]
+            rng = np.random.default_rng(a.seed + step)
+            print(f"resuming {a.ckpt} at step {step}, {ck['elapsed']:.0f} s of {budget:.0f}", flush=True)
+    if a.init and step == 0:
+        model.load_state_dict(torch.load(a.init)["model"])
     while True:
         frac = (time.time() - t0) / budget
         if frac >= 1:
@@ -194,7 +232,7 @@ def main():
                 if isinstance(mod, torch.nn.BatchNorm2d):
                     mod.eval()
         batch = make_batch(pool, rng, a.bs, a.px, weights, set(a.synth), a.strong_aug, a.solar_frac, a.shadow_p, a.wide_frac, [1.0, a.solar_size_w],
-                           a.shade_p, a.beside_p)
+                           a.shade_p, a.beside_p, colour, a.colour_p)
         l_hm, l_size, l_off, l_ang = losses(model, batch)
         loss = l_hm + 0.5 * l_size + l_off + 0.5 * l_ang
         opt.zero_grad()
@@ -209,14 +247,16 @@ def main():
             print(f"step {step} t={time.time()-t0:.0f}s lr={lr:.2e} loss={avg[0]:.3f} hm={avg[1]:.3f} size={avg[2]:.3f}"
                   f" off={avg[3]:.3f} ang={avg[4]:.3f} chips={counts}", flush=True)
         if time.time() - last_ck > 300:
-            save(model, a, step)
+            save(model, a, step, opt, time.time() - t0)
             last_ck = time.time()
-    save(model, a, step)
+    save(model, a, step, opt, time.time() - t0, done=True)
     print(f"done: {step} steps, {step * a.bs} chips, {time.time() - t0:.0f}s", flush=True)
 
 
-def save(model, a, step):
-    torch.save({"model": model.state_dict(), "step": step}, a.ckpt)
+def save(model, a, step, opt, elapsed, done=False):
+    tmp = a.ckpt + ".tmp"
+    torch.save({"model": model.state_dict(), "step": step, "opt": opt.state_dict(), "elapsed": elapsed, "done": done}, tmp)
+    os.replace(tmp, a.ckpt)  # a stop while writing never leaves a broken checkpoint
     if a.export:
         from export import export_onnx
         export_onnx(a.ckpt, a.export)
