@@ -11,7 +11,7 @@ import { SeamtallyError } from '../web/core/errors.ts';
 import { countsToCsv, countsToJson } from '../web/core/export-csv.ts';
 import { detectionsToGeoJson } from '../web/core/export-geojson.ts';
 import { multiPolygonAreaM2 } from '../web/core/geodesic-area.ts';
-import { parseSidecar, type ModelSidecar } from '../web/core/model-contract.ts';
+import { DEFAULT_MIN_SCORE, parseSidecar, type ModelSidecar } from '../web/core/model-contract.ts';
 import { prepareScene, runFrameEpsg, runScene, type ScenePipeline, type TileTimings } from '../web/core/pipeline.ts';
 import { COUNTING_RULE } from '../web/core/point-in-polygon.ts';
 import type { SceneSource } from '../web/core/scene-source.ts';
@@ -193,7 +193,7 @@ export async function run(argv: string[]): Promise<number> {
     const merged = tables.length ? mergeDetectionTables(tables) : mergeDetectionTables([]);
     const detections = merged.frameCrs ? merged : { ...merged, frameCrs: epsgName(frameEpsg) };
     const mergeMs = performance.now() - t0;
-    const minScore = pipelines[0]?.minScore ?? 0.5;
+    const minScore = pipelines[0]?.minScore ?? DEFAULT_MIN_SCORE;
     const gsdM = Math.max(...sources.map((s) => s.info.georef.gsdM));
     const rows = countPerAoi({ detections, classes: sidecar.classes, aois: countAois, date, gsdM }, { minScore });
     const scenesMeta = sources.map((s) => ({ name: s.info.name, acquisitionDate: s.info.acquisitionDate ?? date, gsdM: s.info.georef.gsdM }));

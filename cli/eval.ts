@@ -8,7 +8,7 @@ import { normaliseAxisAngle } from '../web/core/decode-outputs.ts';
 import { SeamtallyError } from '../web/core/errors.ts';
 import { classQuality, matchVoc, prCurve, relativeCountError, type ClassQuality, type EvalDetection, type EvalTruth } from '../web/core/eval-metrics.ts';
 import { pixelToMap } from '../web/core/geotransform.ts';
-import { parseSidecar, validateSidecar, type ModelSidecar } from '../web/core/model-contract.ts';
+import { DEFAULT_MIN_SCORE, parseSidecar, validateSidecar, type ModelSidecar } from '../web/core/model-contract.ts';
 import { prepareScene, runScene } from '../web/core/pipeline.ts';
 import { mergeDetectionTables } from '../web/core/seam-merge.ts';
 import { openGeoTiffPath } from '../web/io/geotiff-source.ts';
@@ -177,7 +177,7 @@ export async function run(argv: string[]): Promise<number> {
   if (!existsSync(scPath)) throw new SeamtallyError('sidecar-invalid', `The model has no sidecar: expected "${scPath}" next to the .onnx file.`);
   if (!existsSync(a.scenes)) throw new SeamtallyError('bad-argument', `The scene folder "${a.scenes}" does not exist: check the path.`);
   const sidecar = parseSidecar(readFileSync(scPath, 'utf8'));
-  const minScore = a.minScore ?? sidecar.minScore ?? 0.5;
+  const minScore = a.minScore ?? sidecar.minScore ?? DEFAULT_MIN_SCORE;
   const model = await openNodeModel(new Uint8Array(readFileSync(a.model)), sidecar, { threads: a.threads, tilePx: a.tilePx });
   const scenes: SceneEval[] = [];
   try {

@@ -4,7 +4,7 @@
 // onnxruntime-web), exports validate, review changes the reviewed count, a reload mid-run resumes, bad files get
 // their sentence.
 import { test, expect, type Page } from '@playwright/test';
-import { readFileSync } from 'node:fs';
+import { readFileSync, writeFileSync } from 'node:fs';
 import gjv from 'geojson-validation';
 import { makeBrowserFixture, cliCounts, FIXTURE_MODEL, type BrowserFixture } from './scenes-fixture.ts';
 
@@ -101,4 +101,36 @@ test('a non-TIFF, a TIFF without georeferencing and a broken model sidecar each 
   await page.screenshot({ path: 'test-results/app-bad-inputs.png' });
   await expect(page.locator('[data-testid=scene-list] li')).toHaveCount(2);
   await expect(page.locator('[data-testid=model-info]')).toContainText('fixture-blob-detector');
+});
+
+test('one threshold: the slider shows the model default in force, and tally, Check queue, export and report all use it', async ({ page }) => {
+  // A sidecar whose default (0.41) differs from the page's fallback: the slider must show 0.41 and every count use it.
+  const sidecarPath = fx.badSidecarPath.replace('broken', 'default-041');
+  const sidecar = JSON.parse(readFileSync(FIXTURE_MODEL.replace(/\.onnx$/, '.model.json'), 'utf8'));
+  writeFileSync(sidecarPath, JSON.stringify({ ...sidecar, minScore: 0.41 }));
+  await openFixture(page);
+  const [chooser] = await Promise.all([page.waitForEvent('filechooser'), page.click('[data-testid=other-model]')]);
+  await chooser.setFiles([FIXTURE_MODEL, sidecarPath]);
+  const slider = page.locator('[data-testid=threshold]');
+  await expect(slider).toHaveValue('0.41');
+  await expect(page.locator('[data-testid=threshold-value]')).toHaveText('0.41');
+  await runToEnd(page);
+  const cli = cliCounts(fx, { minScore: 0.41 }); // the CLI at the same threshold is the reference
+  const expected = Object.fromEntries(cli.rows.map((r) => [`${r.aoiName}|${r.date}|${r.className}`, r.count]));
+  expect(await tallyCounts(page)).toEqual(expected);
+  // one step away and back: the same counts (the bug was a slider showing one value while another was in force)
+  await slider.fill('0.6');
+  await expect(page.locator('[data-testid=threshold-value]')).toHaveText('0.60');
+  await slider.fill('0.41');
+  expect(await tallyCounts(page)).toEqual(expected);
+  // export and report say and use 0.41; the Check queue holds exactly the exported (counted-or-candidate) detections
+  await page.click('.tabs button[data-tab=takeaway]');
+  const [dl] = await Promise.all([page.waitForEvent('download'), page.click('[data-testid=export-geojson]')]);
+  const fc = JSON.parse(readFileSync((await dl.path())!, 'utf8'));
+  expect(fc.seamtally.minScore).toBe(0.41);
+  for (const f of fc.features) expect(f.properties.score).toBeGreaterThanOrEqual(0.41);
+  const [rep] = await Promise.all([page.waitForEvent('download'), page.click('[data-testid=export-report]')]);
+  expect(readFileSync((await rep.path())!, 'utf8')).toContain('score ≥ 0.41');
+  await page.click('.tabs button[data-tab=check]');
+  await expect(page.locator('[data-testid=reviewed-count]')).toHaveAttribute('data-total', String(fc.features.length));
 });

@@ -1,7 +1,7 @@
 // Page entry: creates the one app state and the services (map, worker pool, tally worker), mounts every panel,
 // restores kept work, loads the shipped detector and the demo, and resumes an interrupted run.
 import 'ol/ol.css';
-import { createAppState, type AppState, type ModelEntry } from './state.ts';
+import { createAppState, setThreshold, type AppState, type ModelEntry } from './state.ts';
 import { WorkStore } from './store.ts';
 import { buildLayout } from './layout.ts';
 import { createMapView } from './map-view.ts';
@@ -29,6 +29,7 @@ import { installQuotaFault } from './faults.ts';
 import { CoverageService } from './coverage-service.ts';
 import { restoreKeptWork, restoreKeptScenes } from './restore.ts';
 import { toErrorInfo } from '../core/errors.ts';
+import { DEFAULT_MIN_SCORE } from '../core/model-contract.ts';
 
 async function main(): Promise<void> {
   const config = readPageConfig(location);
@@ -57,9 +58,8 @@ async function main(): Promise<void> {
   const useModel = async (m: ModelEntry) => {
     await pool.setModel(m);
     state.model = m;
-    state.minScore = m.sidecar.minScore ?? 0.5;
     state.events.emit('model-changed');
-    state.events.emit('threshold-changed');
+    setThreshold(state, m.sidecar.minScore ?? DEFAULT_MIN_SCORE);
   };
 
   mountImageryPanel(state, layout.imagery, layout.map, svc);

@@ -105,7 +105,7 @@ export function mountReviewPanel(state: AppState, el: HTMLElement, svc: ReviewSe
       h('div', {}, `${pos + 1} of ${rows.length} · `, h(`b.cls-${classes[t.classIdx[row]]}`, {}, classes[t.classIdx[row]] ?? '?'),
         ` · score ${fmt(t.score[row], 2)} · `, h('b', { dataset: { testid: 'review-state' } }, rt.review[row])),
       h('div.muted', {}, `${fmt(t.lengthM[row], 1)} × ${fmt(t.widthM[row], 1)} m · ${rt.dateIso}`));
-    setChildren(summary, h('span', { dataset: { testid: 'reviewed-count', value: String(decided) } }, `${decided} of ${rows.length} checked`),
+    setChildren(summary, h('span', { dataset: { testid: 'reviewed-count', value: String(decided), total: String(rows.length) } }, `${decided} of ${rows.length} checked`),
       h('span.muted', {}, ` · ${rt.addedIds.length} added by hand`));
   };
   // Only while the tab is shown (it sorts every candidate detection); shown later, it renders then.

@@ -2,7 +2,7 @@
 import type { DetectionTable, PixelBox, ReviewState } from '../core/types.ts';
 import type { SceneInfo } from '../core/scene-source.ts';
 import type { Aoi } from '../core/aoi.ts';
-import type { ModelSidecar } from '../core/model-contract.ts';
+import { DEFAULT_MIN_SCORE, type ModelSidecar } from '../core/model-contract.ts';
 import type { SceneInput, SceneDescription } from '../../workers/contract.ts';
 import type { WorkStore } from './store.ts';
 import { EventBus } from './events.ts';
@@ -106,7 +106,7 @@ export function createAppState(store: WorkStore | null): AppState {
     model: null,
     poolSize: Math.max(1, Math.min(8, navigator.hardwareConcurrency || 2)),
     areasOnly: false,
-    minScore: 0.5,
+    minScore: DEFAULT_MIN_SCORE,
     progress: { status: 'idle', tilesDone: 0, tilesTotal: 0, tilesFailed: 0, startedMs: 0, tilesPerS: 0, message: '' },
     results: [],
     review: new Map(),
@@ -119,6 +119,17 @@ export function createAppState(store: WorkStore | null): AppState {
 }
 
 /** Dates present among the scenes, ascending, each with its scenes. */
+/**
+ * The one way to change the counting threshold: rounds to the slider's 0.01 step, stores it in `state.minScore` and
+ * tells every consumer (slider, tally, Check queue, map, exports, report read `state.minScore`; nothing keeps a copy).
+ */
+export function setThreshold(state: AppState, minScore: number): void {
+  const v = Math.round(Math.min(0.99, Math.max(0.01, minScore)) * 100) / 100;
+  if (v === state.minScore) return;
+  state.minScore = v;
+  state.events.emit('threshold-changed');
+}
+
 export function scenesByDate(state: AppState): Array<{ dateIso: string; scenes: SceneEntry[] }> {
   const m = new Map<string, SceneEntry[]>();
   for (const s of state.scenes) m.set(s.dateIso, [...(m.get(s.dateIso) ?? []), s]);

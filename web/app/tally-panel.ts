@@ -1,5 +1,6 @@
 // The "Tally" tab: the score slider (all counts follow it) and the per area × date × class table with caveats.
-import type { AppState } from './state.ts';
+import { setThreshold, type AppState } from './state.ts';
+import { runFloor } from './run-plan.ts';
 import { computeTally, type DateTally } from './tally.ts';
 import type { CoverageService } from './coverage-service.ts';
 import { h, setChildren, fmt } from './dom.ts';
@@ -28,10 +29,19 @@ export interface TallySource {
  * tally.
  */
 export function mountTallyPanel(state: AppState, el: HTMLElement, coverage: CoverageService): TallySource {
-  const value = h('span', {}, state.minScore.toFixed(2));
-  const slider = h('input.slider', { type: 'range', min: '0.2', max: '0.95', step: '0.01', value: String(state.minScore),
+  const value = h('span', { dataset: { testid: 'threshold-value' } }, state.minScore.toFixed(2));
+  const slider = h('input.slider', { type: 'range', min: String(runFloor(state)), max: '0.95', step: '0.01', value: String(state.minScore),
     'aria-label': 'Score threshold', dataset: { testid: 'threshold' },
-    oninput: () => { state.minScore = Number(slider.value); value.textContent = state.minScore.toFixed(2); state.events.emit('threshold-changed'); } });
+    oninput: () => setThreshold(state, Number(slider.value)) });
+  // the slider and its label only ever show the threshold in force (set from the model's default at load)
+  const showThreshold = () => {
+    slider.min = String(runFloor(state));
+    slider.value = String(state.minScore);
+    value.textContent = state.minScore.toFixed(2);
+    slider.title = state.model?.sidecar.minScore !== undefined ? `The model's default is ${state.model.sidecar.minScore.toFixed(2)}; detections below ${runFloor(state).toFixed(2)} are not kept by a run.` : '';
+  };
+  state.events.on('threshold-changed', showThreshold);
+  state.events.on('model-changed', showThreshold);
   const dateSel = h('select', { 'aria-label': 'Date shown on the map', onchange: () => {
     state.shownDate = dateSel.value || null; state.events.emit('shown-date-changed');
   } });

@@ -4,6 +4,7 @@ import { M2_PER_HA } from './geodesic-area.ts';
 import { COUNTING_RULE, prepareMultiPolygon } from './point-in-polygon.ts';
 import type { AoiInCrs } from './aoi.ts';
 import type { DetectionTable, ReviewState } from './types.ts';
+import { DEFAULT_MIN_SCORE } from './model-contract.ts';
 
 /** One AOI as the counter needs it: rings in the detections' metric frame, plus figures measured elsewhere. */
 export interface CountAoi {
@@ -63,7 +64,7 @@ export function countsUnderRule(score: number, review: ReviewState, minScore: nu
 
 /** Rows for every AOI × class (classes in `classes` order, AOIs in input order). */
 export function countPerAoi(input: CountsInput, options: CountsOptions = {}): CountRow[] {
-  const minScore = options.minScore ?? 0.5;
+  const minScore = options.minScore ?? DEFAULT_MIN_SCORE;
   const t = input.detections;
   const frameEpsg = parseEpsgName(t.frameCrs);
   const nClasses = input.classes.length;

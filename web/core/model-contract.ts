@@ -85,6 +85,9 @@ export interface QualityCurves {
   evalSet?: string;
 }
 
+/** Counting threshold for a model whose sidecar gives no `minScore` (the one place this default is typed). */
+export const DEFAULT_MIN_SCORE = 0.5;
+
 export interface ModelSidecar {
   format: typeof SIDECAR_FORMAT;
   name?: string;

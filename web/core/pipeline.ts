@@ -4,7 +4,7 @@ import { createTransform, epsgName, metricFrameEpsg, type UserCrsDefs } from './
 import { decodeOutputs, normaliseAxisAngle, type PixelDetections, type TensorLike } from './decode-outputs.ts';
 import { SeamtallyError } from './errors.ts';
 import { pixelToMap } from './geotransform.ts';
-import { tileAlignPxOf, type ModelSidecar } from './model-contract.ts';
+import { DEFAULT_MIN_SCORE, tileAlignPxOf, type ModelSidecar } from './model-contract.ts';
 import { computeStretch, hasValidSample, joinSamples, normaliseInPlace, readStretchSample, selectBands, type BandSelection, type Stretch, type StretchOptions } from './radiometry.ts';
 import { planResample, resampleBand } from './resample.ts';
 import { fillUnit, unitInsideRect } from './fill-unit.ts';
@@ -125,7 +125,7 @@ export async function prepareScene(source: SceneSource, sceneIdx: number, sideca
   return {
     source, sceneIdx, sidecar, plan, bands, stretch,
     frameEpsg: opts.frameEpsg ?? runFrameEpsg([source], opts.userDefs),
-    minScore: opts.minScore ?? sidecar.minScore ?? 0.5,
+    minScore: opts.minScore ?? sidecar.minScore ?? DEFAULT_MIN_SCORE,
     userDefs: opts.userDefs,
   };
 }
