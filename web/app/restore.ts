@@ -2,6 +2,7 @@
 // themselves, kept file scenes wait (listed) until the analyst drops the same files again (matched by fingerprint).
 import type { AppState, SceneEntry } from './state.ts';
 import { openScene, type SceneServices } from './scene-open.ts';
+import { adoptSceneCrs } from './scene-crs.ts';
 
 /** Restore areas, review and added boxes (call before the demo, so kept areas win over the demo's). */
 export async function restoreKeptWork(state: AppState): Promise<void> {
@@ -23,6 +24,7 @@ export async function restoreKeptScenes(state: AppState, svc: SceneServices): Pr
     if (rec.origin.kind === 'url') {
       await openScene(state, svc, { kind: 'url', url: rec.origin.url }, { dateIso: rec.dateIso });
     } else {
+      adoptSceneCrs(rec.description);
       const entry: SceneEntry = { ...rec, input: null };
       state.scenes = [...state.scenes, entry];
       state.events.emit('scenes-changed');

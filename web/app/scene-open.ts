@@ -6,6 +6,7 @@ import type { SceneLayers } from './scene-layers.ts';
 import { fingerprintScene } from './fingerprint.ts';
 import { toErrorInfo, fromErrorInfo } from '../core/errors.ts';
 import { checkImageryUrl } from './egress.ts';
+import { adoptSceneCrs } from './scene-crs.ts';
 
 /** Longest side of the overview picture drawn on the map. */
 const PREVIEW_LONG_SIDE_PX = 2048;
@@ -41,6 +42,7 @@ export async function openScene(state: AppState, svc: SceneServices, input: Scen
     }
     const r = await svc.pool.any().describeScene(input);
     if (!r.ok) throw fromErrorInfo(r.error);
+    adoptSceneCrs(r.value);
     // The overview picture is made before the scene is listed: a scene whose pixels cannot be decoded (an unknown
     // compression, tiles cut off) is refused with its sentence instead of being listed and failing at run time.
     const preview = await svc.pool.any().previewScene(input, { maxLongSidePx: PREVIEW_LONG_SIDE_PX });

@@ -1,35 +1,60 @@
-// Built-in proj4 definitions (EPSG:4326, 3857, WGS 84 / ETRS89 / NAD83 UTM), cached transformers, metric ground frame.
+// CRS definitions: the EPSG registry (every 2D geographic and projected CRS, from the npm package epsg-index,
+// generated into epsg-registry.generated.ts), definitions the user or a file supplies, cached transformers, and the
+// metric ground frame.
 import proj4 from 'proj4';
 import { SeamtallyError } from './errors.ts';
+import { EPSG_NEEDS_GRID, EPSG_PROJ4 } from './epsg-registry.generated.ts';
 import type { LonLatDeg, MapXY } from './types.ts';
 
-/** Extra CRS definitions supplied by the user: EPSG code → proj4 string or WKT. */
+/** Extra CRS definitions supplied by the user or built from a file's GeoKeys: code → proj4 string or WKT. */
 export type UserCrsDefs = Readonly<Record<number, string>>;
 
 type XYFn = (xy: MapXY) => MapXY;
 
-const WGS84_LONLAT = '+proj=longlat +datum=WGS84 +no_defs';
+/** Codes from here up name CRSs a file defines itself (GeoKeys), not EPSG codes. */
+const FILE_CRS_BASE = 1_000_000;
+// Content-addressed: the code is a hash of the definition, so the page, its workers and the CLI give the same CRS the
+// same code without talking to each other (a memo of pure values, not shared mutable state).
+const fileDefinitions = new Map<number, string>();
 
-/** proj4 definition of a built-in EPSG code, or undefined. */
-function builtInDefinition(epsg: number): string | undefined {
-  if (epsg === 4326) return WGS84_LONLAT;
-  if (epsg === 3857) {
-    return '+proj=merc +a=6378137 +b=6378137 +lat_ts=0 +lon_0=0 +x_0=0 +y_0=0 +k=1 +units=m +nadgrids=@null +wktext +no_defs';
-  }
-  if (epsg >= 32601 && epsg <= 32660) return `+proj=utm +zone=${epsg - 32600} +datum=WGS84 +units=m +no_defs`;
-  if (epsg >= 32701 && epsg <= 32760) return `+proj=utm +zone=${epsg - 32700} +south +datum=WGS84 +units=m +no_defs`;
-  if (epsg >= 25828 && epsg <= 25838) return `+proj=utm +zone=${epsg - 25800} +ellps=GRS80 +towgs84=0,0,0,0,0,0,0 +units=m +no_defs`;
-  if (epsg >= 26901 && epsg <= 26923) return `+proj=utm +zone=${epsg - 26900} +datum=NAD83 +units=m +no_defs`;
+/** The code under which a CRS defined by a file (proj4 string) is known; the same definition always gets the same code. */
+export function defineFileCrs(proj4Def: string): number {
+  let h = 0x811c9dc5; // FNV-1a, 32 bit
+  for (let i = 0; i < proj4Def.length; i++) h = Math.imul(h ^ proj4Def.charCodeAt(i), 0x01000193) >>> 0;
+  const code = FILE_CRS_BASE + (h % 8_000_000);
+  fileDefinitions.set(code, proj4Def);
+  return code;
+}
+
+/** True for a code made by defineFileCrs (a CRS defined in a file's GeoKeys, not in the EPSG registry). */
+export function isFileDefinedCrs(code: number): boolean {
+  return code >= FILE_CRS_BASE;
+}
+
+/** The WGS 84 / ETRS89 / NAD83 UTM zones by formula, for zone codes the package lacks (e.g. EPSG:25838). */
+function utmByFormula(epsg: number): string | undefined {
+  if (epsg >= 32601 && epsg <= 32660) return `+proj=utm +zone=${epsg - 32600} +datum=WGS84 +units=m`;
+  if (epsg >= 32701 && epsg <= 32760) return `+proj=utm +zone=${epsg - 32700} +south +datum=WGS84 +units=m`;
+  if (epsg >= 25828 && epsg <= 25838) return `+proj=utm +zone=${epsg - 25800} +ellps=GRS80 +towgs84=0,0,0,0,0,0,0 +units=m`;
+  if (epsg >= 26901 && epsg <= 26923) return `+proj=utm +zone=${epsg - 26900} +datum=NAD83 +units=m`;
   return undefined;
 }
 
-/** The proj4 definition for `epsg` (user definitions win over built-ins). Unknown code → 'unknown-crs'. */
+/** proj4 definition of an EPSG code from the registry (or of a file-defined CRS), or undefined. */
+function builtInDefinition(epsg: number): string | undefined {
+  return EPSG_PROJ4[epsg] ?? utmByFormula(epsg) ?? fileDefinitions.get(epsg);
+}
+
+/** The proj4 definition for `epsg` (user definitions win over the registry). Unknown code → 'unknown-crs'. */
 export function crsDefinition(epsg: number, userDefs?: UserCrsDefs): string {
   const def = userDefs?.[epsg] ?? builtInDefinition(epsg);
   if (def === undefined) {
+    const grid = EPSG_NEEDS_GRID[epsg];
     throw new SeamtallyError(
       'unknown-crs',
-      `seamtally has no definition for EPSG:${epsg}. Built in are EPSG:4326, 3857 and the WGS 84, ETRS89 and NAD83 UTM zones: reproject the scene with gdalwarp -t_srs EPSG:326NN (your UTM zone), or supply a proj4 definition for EPSG:${epsg} (its text from "gdalsrsinfo -o proj4 EPSG:${epsg}").`,
+      grid
+        ? `EPSG:${epsg} is defined through the datum grid ${grid}, which seamtally does not carry, so it cannot place this scene on the map accurately: reproject the scene with gdalwarp -t_srs EPSG:4326 or its UTM zone (GDAL applies the grid), or supply a proj4 definition for EPSG:${epsg} with a +towgs84 shift you trust.`
+        : `seamtally has no definition for EPSG:${epsg}: it is not a 2D geographic or projected CRS of the EPSG registry. Reproject the scene with gdalwarp -t_srs EPSG:326NN (your UTM zone), or supply a proj4 definition for it (its text from "gdalsrsinfo -o proj4 EPSG:${epsg}").`,
       { epsg },
     );
   }
@@ -119,10 +144,11 @@ export function isMetricProjected(epsg: number, userDefs?: UserCrsDefs): boolean
 
 /**
  * The metric ground frame in which detections of a scene are merged and measured: the scene's own CRS when it is
- * projected in metres, otherwise the WGS 84 UTM zone of the scene centre.
+ * projected in metres and in the EPSG registry, otherwise the WGS 84 UTM zone of the scene centre (exports name
+ * their frame by EPSG code, so a CRS defined only inside a file is never the frame).
  */
 export function metricFrameEpsg(epsg: number, centreLonLat: LonLatDeg, userDefs?: UserCrsDefs): number {
-  if (isMetricProjected(epsg, userDefs)) return epsg;
+  if (isMetricProjected(epsg, userDefs) && !isFileDefinedCrs(epsg)) return epsg;
   return utmEpsgForLonLat(centreLonLat[0], centreLonLat[1]);
 }
 

@@ -1,5 +1,7 @@
 // GeoKey directory (GeoTIFF 1.1, OGC 19-008r4) → EPSG code, geographic or projected, raster type.
 import { SeamtallyError } from './errors.ts';
+import { defineFileCrs } from './crs.ts';
+import { PROJECTION_KEY_NAMES, userDefinedProjection } from './geokeys-projection.ts';
 
 /** How a pixel's tiepoint relates to the pixel: its corner (area) or its centre (point). GeoTIFF §7.1.2. */
 export type RasterType = 'PixelIsArea' | 'PixelIsPoint';
@@ -28,6 +30,7 @@ export const GEO_KEY_NAMES: Readonly<Record<number, string>> = {
   3075: 'ProjCoordTransGeoKey',
   3076: 'ProjLinearUnitsGeoKey',
   4096: 'VerticalCSTypeGeoKey',
+  ...PROJECTION_KEY_NAMES,
 };
 
 const USER_DEFINED = 32767;
@@ -82,7 +85,9 @@ function isRawDirectory(x: unknown): x is ArrayLike<number> {
 
 /**
  * Read EPSG code, model type and raster type from GeoKeys (a geotiff.js `getGeoKeys()` object or the raw
- * GeoKeyDirectory array). Missing keys → 'not-georeferenced'; user-defined or geocentric CRS → 'unknown-crs'.
+ * GeoKeyDirectory array). Missing keys → 'not-georeferenced'; a user-defined projected CRS gets the code of its
+ * definition built from the keys (geokeys-projection.ts, crs.ts defineFileCrs); a user-defined geographic or a
+ * geocentric CRS → 'unknown-crs'.
  * A missing GTRasterTypeGeoKey means PixelIsArea (GeoTIFF default, as GDAL reads it).
  */
 export function readGeoKeys(geoKeys: GeoKeyValues | ArrayLike<number> | null | undefined): GeoKeyInfo {
@@ -110,6 +115,10 @@ export function readGeoKeys(geoKeys: GeoKeyValues | ArrayLike<number> | null | u
       `This file's GeoKeys name no EPSG code for its ${isGeographic ? 'geographic' : 'projected'} coordinate system: reproject it with gdalwarp -t_srs EPSG:32633 (or the UTM zone of your area), or supply a proj4 definition for its CRS.`,
       { modelType },
     );
+  }
+  if (code === USER_DEFINED && !isGeographic) {
+    // a projection defined by its parameters in the file (no EPSG code): build it, or say why not
+    return { epsg: defineFileCrs(userDefinedProjection(keys)), isGeographic, rasterType };
   }
   if (code === USER_DEFINED) {
     const citation = keys.GTCitationGeoKey ?? keys.PCSCitationGeoKey ?? keys.GeogCitationGeoKey;

@@ -220,13 +220,13 @@ describe('bad input: one clear sentence and a non-zero exit', () => {
     expect(r.err).toMatch(/georeferenc/);
   });
 
-  it('unknown EPSG (CH1903+ / LV95, EPSG:2056, not built in)', async () => {
-    const p = writeGeoTiff(join(dir, 'swiss.tif'), { widthPx: 16, heightPx: 16, bandCount: 3, dtype: 'uint8', data: new Uint8Array(768) }, { epsg: 2056, ulX: 2600000, ulY: 1200000, gsdM: 0.3 });
+  it('an EPSG code that needs a datum grid seamtally does not carry (NAD27 / UTM 11N, EPSG:26711)', async () => {
+    const p = writeGeoTiff(join(dir, 'nad27.tif'), { widthPx: 16, heightPx: 16, bandCount: 3, dtype: 'uint8', data: new Uint8Array(768) }, { epsg: 26711, ulX: 440720, ulY: 3751320, gsdM: 0.3 });
     const r = await cli(base(p));
     expect(r.rc).not.toBe(0);
     expect(one(r.err)).toHaveLength(1);
     if (process.env.SHOW_ERRORS) console.log(r.err.trim());
-    expect(r.err).toMatch(/EPSG:2056/);
+    expect(r.err).toMatch(/EPSG:26711.*NTv2_0\.gsb/);
   });
 
   it('AOI outside the scene', async () => {

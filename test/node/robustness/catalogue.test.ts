@@ -120,7 +120,7 @@ describe('the page path (Blob source → prepareScene → first tile) on the sce
 describe(`seamtally detect on ${all.length} catalogue inputs (subprocess)`, () => {
   it('the catalogue covers every input class the issue lists', () => {
     const ids = all.map((e) => e.id).join(' ');
-    for (const re of [/not-tiff/, /truncated/, /no-georef/, /unknown-epsg/, /user-defined-crs/, /compression-/, /float32/, /int16/, /bands-1\b/, /bands-2/,
+    for (const re of [/not-tiff/, /truncated/, /no-georef/, /datum-grid-epsg/, /user-defined-cassini/, /compression-/, /float32/, /int16/, /bands-1\b/, /bands-2/,
       /bands-4/, /bands-8/, /huge-200k/, /all-nodata/, /bigtiff/, /aoi-outside/, /aoi-bowtie/, /aoi-empty/, /aoi-projected/, /aoi-antimeridian/,
       /model-corrupt/, /model-input-size/, /model-unknown-op/, /sidecar-missing/, /sidecar-no-classes/]) expect(ids).toMatch(re);
     expect(new Set(all.map((e) => e.id)).size).toBe(all.length);
