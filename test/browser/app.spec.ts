@@ -5,6 +5,8 @@
 // their sentence.
 import { test, expect, type Page } from '@playwright/test';
 import { readFileSync, writeFileSync } from 'node:fs';
+import { execFileSync } from 'node:child_process';
+import { join } from 'node:path';
 import gjv from 'geojson-validation';
 import { makeBrowserFixture, cliCounts, FIXTURE_MODEL, type BrowserFixture } from './scenes-fixture.ts';
 
@@ -133,4 +135,25 @@ test('one threshold: the slider shows the model default in force, and tally, Che
   expect(readFileSync((await rep.path())!, 'utf8')).toContain('score ≥ 0.41');
   await page.click('.tabs button[data-tab=check]');
   await expect(page.locator('[data-testid=reviewed-count]')).toHaveAttribute('data-total', String(fc.features.length));
+});
+
+test('a scene in another CRS opened after the first ones: the map takes its CRS (Swiss LV95), undistorted, with a true scale', async ({ page }) => {
+  // a real 0.2 m orthophoto crop (test/fixtures/real/CREDITS.md) wrapped as EPSG:2056 with GDAL
+  const crop = join(fx.dir, 'lv95-crop.tif');
+  execFileSync('gdal_translate', ['-q', '-a_srs', 'EPSG:2056', '-a_ullr', '2558426.5', '1217469.5', '2558451.5', '1217444.5',
+    '-mo', 'TIFFTAG_DATETIME=2023:06:14 10:00:00', 'test/fixtures/real/ortho_2558439_1217457.png', crop]);
+  await openFixture(page);
+  const map = page.locator('#map');
+  const first = await map.getAttribute('data-projection');
+  expect(first).toMatch(/^EPSG:326\d\d$/);
+  const [chooser] = await Promise.all([page.waitForEvent('filechooser'), page.click('[data-testid=dropzone] button')]);
+  await chooser.setFiles(crop);
+  await expect(page.locator('[data-testid=scene-list] li')).toHaveCount(3);
+  await expect(map).toHaveAttribute('data-projection', 'EPSG:2056');
+  // the 25 m crop fills the map: the scale bar (OpenLayers ScaleLine, metric) names a few metres, not hundreds
+  const scale = await page.locator('.ol-scale-line-inner').innerText();
+  const m = /^([\d.]+)\s*(m|km)$/.exec(scale.trim());
+  expect(m, scale).not.toBeNull();
+  expect(Number(m![1]) * (m![2] === 'km' ? 1000 : 1)).toBeLessThanOrEqual(25);
+  await page.screenshot({ path: 'test-results/app-lv95-crop.png' });
 });

@@ -71,8 +71,8 @@ async function main(): Promise<void> {
   mountReviewPanel(state, layout.tabs.check, { view, detections, layout });
   mountTakeawayPanel(state, layout.tabs.takeaway, { view, getTally: tallies.current, exportFails: config.faults?.exportFails ?? false });
   state.events.on('shown-date-changed', () => layers.showDate(state.shownDate));
-  // The first scene switches the map into its CRS: redraw areas and detections in the new projection.
-  view.map.on('change:view', () => { aoiLayer.render(state.aois); detections.rebuild(); });
+  // A scene opened elsewhere switches the map into its CRS: redraw areas and detections in the new projection.
+  view.map.on('change:view', () => { aoiLayer.render(state.aois); detections.rebuild(); layout.map.dataset.projection = view.projectionCode(); });
 
   await restoreKeptWork(state);
   const demo = await fetchManifest(config.manifestUrl);

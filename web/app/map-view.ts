@@ -1,4 +1,5 @@
-// The OpenLayers map: one view whose projection follows the first scene's CRS (registered through proj4).
+// The OpenLayers map: one view whose projection follows the scenes in view (registered through proj4); scenes in
+// other CRSs are drawn into it by OpenLayers' raster reprojection.
 import OlMap from 'ol/Map.js';
 import View from 'ol/View.js';
 import LayerGroup from 'ol/layer/Group.js';
@@ -17,8 +18,12 @@ export interface MapView {
   projectionCode(): string;
   /** Make `code` known to OpenLayers (proj4 definition string); idempotent. */
   defineProjection(code: string, proj4Def: string): void;
-  /** Switch the view to `code` (when it is still the empty default) and fit `extent` given in `extentCode`. */
+  /** Fit `extent` given in `extentCode`, in the current view projection (the default world view: switch to it). */
   fit(extent: Extent, extentCode: ProjectionLike): void;
+  /** Switch the view to the CRS `extentCode` (unless geographic) and fit `extent`. */
+  focus(extent: Extent, extentCode: ProjectionLike): void;
+  /** True when `extent` (in `extentCode`) overlaps what the view shows now (false for the default world view). */
+  shows(extent: Extent, extentCode: ProjectionLike): boolean;
 }
 
 /** Create the map in `target`. The first fit into a scene CRS switches the view to that CRS. */
@@ -44,13 +49,27 @@ export function createMapView(target: HTMLElement): MapView {
       register(proj4);
     },
     fit(extent, extentCode) {
-      const code = getProjection(extentCode)?.getCode() ?? 'EPSG:3857';
-      if (isDefaultView && code !== 'EPSG:4326') {
-        map.setView(new View({ projection: code, center: [(extent[0] + extent[2]) / 2, (extent[1] + extent[3]) / 2], zoom: 2 }));
-        isDefaultView = false;
-      }
+      if (isDefaultView) { this.focus(extent, extentCode); return; }
       const ext = transformExtent(extent, extentCode, view().getProjection());
       view().fit(ext, { padding: [30, 30, 30, 30], maxZoom: 22 });
+    },
+    focus(extent, extentCode) {
+      const code = getProjection(extentCode)?.getCode() ?? 'EPSG:3857';
+      // a geographic CRS would stretch the picture east-west: keep (or fall back to) Web Mercator for those
+      const target = code === 'EPSG:4326' ? (isDefaultView ? 'EPSG:3857' : view().getProjection().getCode()) : code;
+      if (target !== view().getProjection().getCode()) {
+        map.setView(new View({ projection: target, center: [(extent[0] + extent[2]) / 2, (extent[1] + extent[3]) / 2], zoom: 2 }));
+      }
+      isDefaultView = false;
+      view().fit(transformExtent(extent, extentCode, view().getProjection()), { padding: [30, 30, 30, 30], maxZoom: 22 });
+    },
+    shows(extent, extentCode) {
+      if (isDefaultView) return false;
+      const size = map.getSize();
+      if (!size) return false;
+      const shown = view().calculateExtent(size);
+      const e = transformExtent(extent, extentCode, view().getProjection());
+      return e[0] < shown[2] && e[2] > shown[0] && e[1] < shown[3] && e[3] > shown[1];
     },
   };
 }

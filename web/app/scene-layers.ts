@@ -25,11 +25,13 @@ export class SceneLayers {
       source: new Static({ url, imageExtent: extent, projection: code, interpolate: true }),
       properties: { fingerprint: scene.fingerprint, dateIso: scene.dateIso },
     });
-    this.remove(scene.fingerprint);
+    this.drop(scene.fingerprint);
     this.layers.set(scene.fingerprint, { layer, url });
     this.view.scenes.getLayers().push(layer);
     this.order();
-    if (this.layers.size === 1) this.view.fit(extent, code);
+    // The view takes the CRS of a scene opened where the map is not looking (another town, another CRS), so that
+    // scene is drawn undistorted with a true scale bar; a scene beside those in view joins the view as it is.
+    if (!this.view.shows(extent, code)) this.view.focus(extent, code);
   }
 
   /** Zoom to all scenes. */
@@ -52,12 +54,24 @@ export class SceneLayers {
     for (const { layer } of this.layers.values()) layer.setVisible(dateIso === null || layer.get('dateIso') === dateIso);
   }
 
-  remove(fingerprint: string): void {
+  private drop(fingerprint: string): boolean {
     const old = this.layers.get(fingerprint);
-    if (!old) return;
+    if (!old) return false;
     this.view.scenes.getLayers().remove(old.layer);
     URL.revokeObjectURL(old.url);
     this.layers.delete(fingerprint);
+    return true;
+  }
+
+  remove(fingerprint: string): void {
+    if (!this.drop(fingerprint)) return;
+    // no scene left in the view's CRS: follow the remaining ones
+    const rest = [...this.layers.values()].map((l) => l.layer.getSource()!);
+    const viewCode = this.view.projectionCode();
+    if (rest.length && !rest.some((s) => s.getProjection()?.getCode() === viewCode)) {
+      const src = rest[rest.length - 1];
+      this.view.focus(src.getImageExtent(), src.getProjection()!);
+    }
   }
 
   private order(): void {
