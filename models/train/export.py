@@ -5,14 +5,13 @@ import sys
 import torch
 
 sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
-from model import SeamtallyDet  # noqa: E402
+from arch import load_checkpoint  # noqa: E402
 
 OUTPUT_NAMES = ["heatmap", "size", "offset", "angle"]
 
 
 def export_onnx(ckpt_path, onnx_path, tile_px=512):
-    model = SeamtallyDet()
-    model.load_state_dict(torch.load(ckpt_path)["model"])
+    model = load_checkpoint(ckpt_path)
     model.eval()
     model.export_mode = True
     x = torch.rand(1, 3, tile_px, tile_px)

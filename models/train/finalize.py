@@ -7,7 +7,26 @@ import sys
 
 sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
 from export import export_onnx, OUTPUT_NAMES  # noqa: E402
-from model import CLASSES, STRIDE, SeamtallyDet, count_macs  # noqa: E402
+import math  # noqa: E402
+import tempfile  # noqa: E402
+import torch  # noqa: E402
+from model import CLASSES, STRIDE, count_macs  # noqa: E402
+from arch import load_checkpoint  # noqa: E402
+
+
+def shift_class_scores(ckpt_path, class_thresholds, common):
+    """A checkpoint whose heatmap logit of class c is shifted by logit(common) - logit(t_c): a detection scores
+    `common` exactly where it scored t_c before (monotone per class), so one shipped threshold gives each class its own
+    operating point (the model contract has one minScore and the app one slider)."""
+    ck = torch.load(ckpt_path)
+    logit = lambda p: math.log(p / (1 - p))  # noqa: E731
+    bias = ck["model"]["hm.bias"].clone()
+    for c, t in class_thresholds.items():
+        bias[CLASSES.index(c)] += logit(common) - logit(t)
+    ck["model"]["hm.bias"] = bias
+    out = os.path.join(tempfile.mkdtemp(), "shifted.pt")
+    torch.save(ck, out)
+    return out
 
 
 def sidecar(name, min_score, version):
@@ -47,9 +66,16 @@ def main():
     ap.add_argument("--name", default="seamtally-det")
     ap.add_argument("--min-score", type=float, default=0.3)
     ap.add_argument("--version", default="1")
+    ap.add_argument("--class-thresholds", default=None,
+                    help="per-class operating points, e.g. vehicle=0.41,solar_panel=0.28: scores are shifted so that each "
+                         "lands on --min-score (see shift_class_scores)")
     a = ap.parse_args()
     onnx_path = os.path.join(a.out_dir, a.name + ".onnx")
-    export_onnx(a.ckpt, onnx_path)
+    ckpt = a.ckpt
+    if a.class_thresholds:
+        ckpt = shift_class_scores(ckpt, {k: float(v) for k, v in (p.split("=") for p in a.class_thresholds.split(","))},
+                                  a.min_score)
+    export_onnx(ckpt, onnx_path)
     side_path = os.path.join(a.out_dir, a.name + ".model.json")
     old = {}
     if os.path.exists(side_path):
@@ -60,7 +86,7 @@ def main():
     with open(side_path, "w") as f:
         json.dump(sc, f, indent=2)
         f.write("\n")
-    macs = count_macs(SeamtallyDet())
+    macs = count_macs(load_checkpoint(ckpt))
     print(f"wrote {onnx_path} ({os.path.getsize(onnx_path) / 1e6:.2f} MB), {side_path}; "
           f"{macs / 1e9:.3f} GMAC = {2 * macs / 1e9:.3f} GFLOP per 512x512 tile")
 

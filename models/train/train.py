@@ -13,7 +13,8 @@ import torch
 import torch.nn.functional as F
 
 sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
-from model import SeamtallyDet, CLASSES  # noqa: E402
+from model import CLASSES  # noqa: E402
+from arch import make_model  # noqa: E402
 from targets import build, dihedral, MAX_OBJ  # noqa: E402
 from degrade import jitter, strong_jitter, fake_shadows, shade_regions, beside_shadows  # noqa: E402
 
@@ -187,6 +188,8 @@ def main():
     ap.add_argument("--colour-from", nargs="*", default=[], help="sources (real photographs) whose colour statistics "
                     "synthesizer chips are given, with chance --colour-p")
     ap.add_argument("--colour-p", type=float, default=0.0)
+    ap.add_argument("--arch", default="plain", help="plain (SeamtallyDet) or mbv1-0.25 (MobileNet V1 backbone)")
+    ap.add_argument("--pretrained", default=None, help="converted ImageNet MobileNet (mobilenet/convert.py) for --arch mbv1-*")
     ap.add_argument("--freeze-bn", action="store_true",
                     help="keep BatchNorm in inference mode (needed when --init comes from from_onnx.py)")
     a = ap.parse_args()
@@ -201,7 +204,7 @@ def main():
     if a.wide_frac > 0 or a.solar_frac > 0:
         print(f"chips with arrays: {len(pool.solar())}, with a wide array: {len(pool.wide())}", flush=True)
     colour = colour_stats(pool, a.colour_from) if a.colour_p > 0 else None
-    model = SeamtallyDet()
+    model = make_model(a.arch, a.pretrained)
     opt = torch.optim.Adam(model.parameters(), lr=a.lr)
     t0 = time.time()
     budget = a.minutes * 60
@@ -255,7 +258,8 @@ def main():
 
 def save(model, a, step, opt, elapsed, done=False):
     tmp = a.ckpt + ".tmp"
-    torch.save({"model": model.state_dict(), "step": step, "opt": opt.state_dict(), "elapsed": elapsed, "done": done}, tmp)
+    torch.save({"model": model.state_dict(), "arch": a.arch, "step": step, "opt": opt.state_dict(), "elapsed": elapsed,
+                "done": done}, tmp)
     os.replace(tmp, a.ckpt)  # a stop while writing never leaves a broken checkpoint
     if a.export:
         from export import export_onnx

@@ -23,7 +23,6 @@ import torch.nn.functional as F
 
 HERE = os.path.dirname(os.path.abspath(__file__))
 sys.path.insert(0, os.path.dirname(HERE))
-from model import SeamtallyDet  # noqa: E402
 
 PX_M = 0.3
 FLOOR = 0.05
@@ -37,8 +36,8 @@ def load_model(path):
         from from_onnx import rebuild
         m = rebuild(path)
     else:
-        m = SeamtallyDet()
-        m.load_state_dict(torch.load(path)["model"])
+        from arch import load_checkpoint
+        m = load_checkpoint(path)
     m.eval()
     m.export_mode = True
     return m
