@@ -104,6 +104,11 @@ describe('boxes decoding', () => {
     expect([d.cxPx[1], d.cyPx[1], d.lengthPx[1], d.widthPx[1]]).toEqual([7, 15, 20, 4]);
     expect(d.angleRad[1]).toBeCloseTo(-Math.PI / 2, 6);
   });
+  it('the tile origin shifts x by its x and y by its y (an origin with x ≠ y catches a swapped axis)', () => {
+    const rows = [[10, 20, 30, 26, 0.9, 0]];
+    const d = decodeOutputs(sc, { det: { data: Float32Array.from(rows.flat()), dims: [1, 1, 6] } }, { minScore: 0.3, tileOriginPx: [1000, 7] });
+    expect([d.cxPx[0], d.cyPx[0]]).toEqual([1020, 30]);
+  });
   it('a kept row with an unknown class index is a model-mismatch', () => {
     const d = { det: { data: Float32Array.from([0, 0, 4, 4, 0.9, 5]), dims: [1, 1, 6] } };
     expect(() => decodeOutputs(sc, d, { minScore: 0.3 })).toThrow(/class index 5/);

@@ -64,4 +64,23 @@ describe('detectionsToGeoJson', () => {
     const fc = detectionsToGeoJson({ detections: t, classes: ['v', 's'], scenes: [{ name: 'a', acquisitionDate: 'd', gsdM: 0.3 }, { name: 'b', acquisitionDate: 'd', gsdM: 0.3 }] });
     expect(fc.features.map((f) => f.properties.headingDeg)).toEqual([0, 90]);
   });
+  it('heading is a compass bearing (clockwise from north): an axis 30° north of east → 60°, 30° south of east → 120°', () => {
+    // compass bearings run clockwise from north (common practice, no source); the table's angle is counter-clockwise
+    // from grid east (types.ts), so bearing = 90° − angle (mirrored, 90° + angle, would swap the two).
+    const t = table('EPSG:32633', 32633, [15, 52], 2);
+    t.angleRad[0] = Math.PI / 6;
+    t.angleRad[1] = -Math.PI / 6;
+    const fc = detectionsToGeoJson({ detections: t, classes: ['v', 's'], scenes: [{ name: 'a', acquisitionDate: 'd', gsdM: 0.3 }, { name: 'b', acquisitionDate: 'd', gsdM: 0.3 }] });
+    const h = fc.features.map((f) => f.properties.headingDeg);
+    // and the box drawn on the map agrees: its long edge points that way in lon/lat
+    for (const [i, f] of fc.features.entries()) {
+      const r = f.geometry.coordinates[0];
+      const e1 = [(r[1][0] - r[0][0]) * Math.cos((52 * Math.PI) / 180), r[1][1] - r[0][1]];
+      const e2 = [(r[2][0] - r[1][0]) * Math.cos((52 * Math.PI) / 180), r[2][1] - r[1][1]];
+      const long = Math.hypot(...e1) > Math.hypot(...e2) ? e1 : e2;
+      const bearing = (((Math.atan2(long[0], long[1]) * 180) / Math.PI) % 180 + 180) % 180;
+      expect(Math.abs(bearing - h[i])).toBeLessThan(1.5); // UTM grid convergence at 15°E, 52°N is ~0 (central meridian)
+    }
+    expect(h).toEqual([60, 120]);
+  });
 });
