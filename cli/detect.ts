@@ -93,7 +93,7 @@ export function sidecarPath(modelPath: string): string {
   return modelPath.replace(/\.onnx$/i, '') + '.model.json';
 }
 
-function readText(path: string, what: string): string {
+export function readText(path: string, what: string): string {
   if (!existsSync(path)) throw new SeamtallyError('bad-argument', `The ${what} "${path}" does not exist: check the path.`);
   return readFileSync(path, 'utf8');
 }
@@ -117,7 +117,7 @@ async function openScene(path: string): Promise<SceneSource> {
 async function coverageMask(src: SceneSource, frameEpsg: number): Promise<CoverageMask> {
   const info = src.info;
   const mask = await readValidMask(src);
-  if (!mask.validMask.includes(1)) {
+  if (!mask.validMask.some((v) => v !== 0)) {
     throw new SeamtallyError('all-nodata', `"${info.name}" has no valid pixels (every pixel is the nodata value ${info.nodata}), so there is nothing to count: check that you picked the right scene, and its nodata value with gdalinfo.`, { name: info.name });
   }
   return {
@@ -133,7 +133,7 @@ function sceneDate(sources: SceneSource[], given?: string): string {
   return dates[0] ?? 'unknown';
 }
 
-function writeAtomic(path: string, text: string): void {
+export function writeAtomic(path: string, text: string): void {
   writeFileSync(`${path}.part`, text);
   renameSync(`${path}.part`, path);
 }

@@ -9,6 +9,8 @@ const commands: Record<string, () => Promise<Command>> = {
   synth: () => import('./synth.ts'),
   demo: () => import('./demo.ts'),
   eval: () => import('./eval.ts'),
+  sample: () => import('./sample.ts'),
+  estimate: () => import('./estimate.ts'),
 };
 
 export async function main(argv: string[]): Promise<number> {

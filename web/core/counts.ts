@@ -5,6 +5,7 @@ import { COUNTING_RULE, prepareMultiPolygon } from './point-in-polygon.ts';
 import type { AoiInCrs } from './aoi.ts';
 import type { DetectionTable, ReviewState } from './types.ts';
 import { DEFAULT_MIN_SCORE } from './model-contract.ts';
+import type { StratifiedEstimate } from './stratified-estimate.ts';
 
 /** One AOI as the counter needs it: rings in the detections' metric frame, plus figures measured elsewhere. */
 export interface CountAoi {
@@ -53,6 +54,8 @@ export interface CountRow {
   gsdM: number;
   minScore: number;
   countingRule: string;
+  /** Estimated true count from a checked sample of cells, when one was checked (stratified-estimate.ts). */
+  estimate?: StratifiedEstimate;
 }
 
 /** True when one detection counts under the rule. */

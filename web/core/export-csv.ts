@@ -1,8 +1,8 @@
 // Per-AOI counts as CSV (RFC 4180 quoting, formula-safe) and as JSON.
 import type { CountRow } from './counts.ts';
 
-/** CSV columns, in order, with the CountRow field each comes from. */
-export const COUNT_COLUMNS: readonly (readonly [string, keyof CountRow])[] = [
+/** CSV columns, in order, with the CountRow field (or function of the row) each comes from. */
+export const COUNT_COLUMNS: readonly (readonly [string, keyof CountRow | ((r: CountRow) => string | number)])[] = [
   ['aoi_id', 'aoiId'],
   ['aoi', 'aoiName'],
   ['date', 'date'],
@@ -17,6 +17,13 @@ export const COUNT_COLUMNS: readonly (readonly [string, keyof CountRow])[] = [
   ['gsd_m', 'gsdM'],
   ['min_score', 'minScore'],
   ['counting_rule', 'countingRule'],
+  // from a checked sample (check-sample.ts, stratified-estimate.ts); empty until one is checked
+  ['estimated_count', (r) => r.estimate?.count ?? ''],
+  ['estimate_se', (r) => r.estimate?.se ?? ''],
+  ['estimate_ci95_low', (r) => r.estimate?.ci95[0] ?? ''],
+  ['estimate_ci95_high', (r) => r.estimate?.ci95[1] ?? ''],
+  ['cells_checked', (r) => r.estimate?.cellsChecked ?? 0],
+  ['estimate_method', (r) => r.estimate?.method ?? ''],
 ];
 
 export interface CsvOptions {
@@ -42,7 +49,7 @@ export function csvField(value: string | number, options: CsvOptions = {}): stri
 export function countsToCsv(rows: readonly CountRow[], options: CsvOptions = {}): string {
   const eol = options.eol ?? '\r\n';
   const lines = [COUNT_COLUMNS.map(([h]) => h).join(',')];
-  for (const r of rows) lines.push(COUNT_COLUMNS.map(([, k]) => csvField(r[k], options)).join(','));
+  for (const r of rows) lines.push(COUNT_COLUMNS.map(([, k]) => csvField(typeof k === 'function' ? k(r) : (r[k] as string | number), options)).join(','));
   return lines.join(eol) + eol;
 }
 

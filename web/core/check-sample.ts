@@ -1,0 +1,185 @@
+// A checked sample for one AOI and date: a grid of square cells over the AOI in the metric frame, cells stratified
+// by the detector's count, and a stratified random sample of cells drawn with a recorded seed, for a person to check
+// exhaustively (stratified-estimate.ts turns the checks into an estimated true count).
+//
+// Cell size: about CELL_TARGET_OBJECTS detected objects per cell on average (side = √(target / density)), rounded to
+// 5 m and kept within 10–1 000 m. Partial cells at the AOI edge keep their real area (the square clipped to the AOI).
+// Counting rule inside a cell: the object's centre lies in the cell (half-open: x0 ≤ x < x1, y0 ≤ y < y1) and in the
+// AOI by the AOI rule (point-in-polygon.ts), so every counted object belongs to exactly one cell.
+// Strata (by detected objects of any class in the cell): "none" (0), "few" (1 … the median of the non-empty cells),
+// "many" (above it); a stratum with fewer than 2 cells is merged into its neighbour. Allocation: Neyman
+// (n_h ∝ N_h · S_h, S_h the spread of detected counts + 1, so empty cells still get checks for misses), at least 2 per
+// stratum, at most N_h.
+import { prepareMultiPolygon, type MultiPolygonRings } from './point-in-polygon.ts';
+
+export const CELL_TARGET_OBJECTS = 20;
+export const STRATUM_NAMES = ['none', 'few', 'many'] as const;
+
+export interface SampleCell {
+  /** "ix,iy" on the grid (stable for one design). */
+  id: string;
+  x0M: number; y0M: number; x1M: number; y1M: number;
+  /** Area of the cell inside the AOI, m² (frame units). */
+  areaM2: number;
+  /** Detected objects per class index in the cell under the counting rule. */
+  detected: number[];
+  stratum: number;
+}
+
+export interface SampleDesign {
+  seed: number;
+  cellSizeM: number;
+  cells: SampleCell[];
+  /** Stratum names (index = SampleCell.stratum) after merging. */
+  strata: string[];
+  /** Ids of the cells to check, in the order drawn (stratum by stratum). */
+  sample: string[];
+}
+
+/** A detection as the design needs it: centre in the frame and class index (already filtered by the counting rule). */
+export interface CountedPoint { xM: number; yM: number; classIdx: number }
+
+/** mulberry32 (public-domain PRNG): the same seed always draws the same cells. */
+function prng(seed: number): () => number {
+  let a = seed >>> 0;
+  return () => {
+    a = (a + 0x6d2b79f5) >>> 0;
+    let t = Math.imul(a ^ (a >>> 15), a | 1);
+    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
+    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
+  };
+}
+
+/** Shoelace area of a closed or open ring. */
+function ringArea(r: readonly (readonly [number, number])[]): number {
+  let s = 0;
+  for (let i = 0; i < r.length; i++) {
+    const [x1, y1] = r[i];
+    const [x2, y2] = r[(i + 1) % r.length];
+    s += x1 * y2 - x2 * y1;
+  }
+  return Math.abs(s) / 2;
+}
+
+/** Sutherland–Hodgman clip of a ring by an axis-aligned box (convex clip window: exact for the area). */
+function clipRing(ring: readonly (readonly [number, number])[], x0: number, y0: number, x1: number, y1: number): [number, number][] {
+  let pts = ring.map((p) => [p[0], p[1]] as [number, number]);
+  const edges: Array<[(p: [number, number]) => boolean, (a: [number, number], b: [number, number]) => [number, number]]> = [
+    [(p) => p[0] >= x0, (a, b) => [x0, a[1] + ((b[1] - a[1]) * (x0 - a[0])) / (b[0] - a[0])]],
+    [(p) => p[0] <= x1, (a, b) => [x1, a[1] + ((b[1] - a[1]) * (x1 - a[0])) / (b[0] - a[0])]],
+    [(p) => p[1] >= y0, (a, b) => [a[0] + ((b[0] - a[0]) * (y0 - a[1])) / (b[1] - a[1]), y0]],
+    [(p) => p[1] <= y1, (a, b) => [a[0] + ((b[0] - a[0]) * (y1 - a[1])) / (b[1] - a[1]), y1]],
+  ];
+  for (const [inside, cut] of edges) {
+    const out: [number, number][] = [];
+    for (let i = 0; i < pts.length; i++) {
+      const cur = pts[i];
+      const prev = pts[(i + pts.length - 1) % pts.length];
+      if (inside(cur)) {
+        if (!inside(prev)) out.push(cut(prev, cur));
+        out.push(cur);
+      } else if (inside(prev)) out.push(cut(prev, cur));
+    }
+    pts = out;
+    if (pts.length === 0) break;
+  }
+  return pts;
+}
+
+/** Area of the AOI (exterior rings minus holes) inside a box. */
+export function areaInBox(polygons: MultiPolygonRings, x0: number, y0: number, x1: number, y1: number): number {
+  let a = 0;
+  for (const poly of polygons) poly.forEach((ring, k) => { const c = ringArea(clipRing(ring, x0, y0, x1, y1)); a += k === 0 ? c : -c; });
+  return Math.max(0, a);
+}
+
+/** Cell side for an AOI of `areaM2` holding `detectedTotal` objects. */
+export function cellSizeFor(areaM2: number, detectedTotal: number): number {
+  const density = detectedTotal / Math.max(areaM2, 1);
+  const side = density > 0 ? Math.sqrt(CELL_TARGET_OBJECTS / density) : Math.sqrt(areaM2 / 16);
+  return Math.min(1000, Math.max(10, Math.round(side / 5) * 5));
+}
+
+export interface DesignOptions {
+  seed: number;
+  classCount: number;
+  /** Cells to check in all (default: 2 per stratum + 10 % of the cells, at most 40). */
+  sampleSize?: number;
+  cellSizeM?: number;
+}
+
+/** Lay the grid, stratify and draw the sample. */
+export function designSample(polygons: MultiPolygonRings, points: readonly CountedPoint[], opts: DesignOptions): SampleDesign {
+  const mp = prepareMultiPolygon(polygons);
+  const { minX, minY, maxX, maxY } = mp.bbox;
+  let areaM2 = 0;
+  for (const poly of polygons) poly.forEach((ring, k) => { areaM2 += k === 0 ? ringArea(ring) : -ringArea(ring); });
+  const inAoi = points.filter((p) => mp.contains(p.xM, p.yM));
+  const side = opts.cellSizeM ?? cellSizeFor(areaM2, inAoi.length);
+  const gx0 = Math.floor(minX / side) * side;
+  const gy0 = Math.floor(minY / side) * side;
+  const nx = Math.max(1, Math.ceil((maxX - gx0) / side));
+  const ny = Math.max(1, Math.ceil((maxY - gy0) / side));
+  const byKey = new Map<string, SampleCell>();
+  const cells: SampleCell[] = [];
+  for (let iy = 0; iy < ny; iy++) {
+    for (let ix = 0; ix < nx; ix++) {
+      const x0M = gx0 + ix * side, y0M = gy0 + iy * side;
+      const a = areaInBox(polygons, x0M, y0M, x0M + side, y0M + side);
+      if (a <= 1e-9 * side * side) continue;
+      const c: SampleCell = { id: `${ix},${iy}`, x0M, y0M, x1M: x0M + side, y1M: y0M + side, areaM2: a, detected: new Array(opts.classCount).fill(0), stratum: 0 };
+      cells.push(c);
+      byKey.set(c.id, c);
+    }
+  }
+  for (const p of inAoi) {
+    const c = byKey.get(`${Math.floor((p.xM - gx0) / side)},${Math.floor((p.yM - gy0) / side)}`);
+    if (c) c.detected[p.classIdx]++;
+  }
+  // strata by the total detected count
+  const total = (c: SampleCell) => c.detected.reduce((x, y) => x + y, 0);
+  const nonEmpty = cells.map(total).filter((t) => t > 0).sort((a, b) => a - b);
+  const median = nonEmpty.length ? nonEmpty[Math.floor((nonEmpty.length - 1) / 2)] : 0;
+  const raw = (c: SampleCell) => (total(c) === 0 ? 0 : total(c) <= median ? 1 : 2);
+  // merge a stratum with fewer than 2 cells into its neighbour (the next one up, or the one below for the last)
+  const groups: number[][] = [[0], [1], [2]].filter((g) => cells.some((c) => raw(c) === g[0]));
+  const size = (g: number[]) => cells.filter((c) => g.includes(raw(c))).length;
+  for (let k = 0; k < groups.length && groups.length > 1;) {
+    if (size(groups[k]) >= 2) { k++; continue; }
+    const into = k + 1 < groups.length ? k + 1 : k - 1;
+    groups[into] = [...groups[into], ...groups[k]].sort();
+    groups.splice(k, 1);
+    k = 0;
+  }
+  const names = groups.map((g) => g.map((r) => STRATUM_NAMES[r]).join('+'));
+  for (const c of cells) c.stratum = groups.findIndex((g) => g.includes(raw(c)));
+  // allocation
+  const H = names.length;
+  const members = Array.from({ length: H }, (_, h) => cells.filter((c) => c.stratum === h));
+  const spread = members.map((m) => {
+    const t = m.map(total);
+    const mean = t.reduce((a, b) => a + b, 0) / Math.max(1, t.length);
+    return Math.sqrt(t.reduce((a, b) => a + (b - mean) ** 2, 0) / Math.max(1, t.length - 1)) + 1;
+  });
+  const n = Math.min(cells.length, opts.sampleSize ?? Math.min(40, 2 * H + Math.ceil(0.1 * cells.length)));
+  const weight = members.map((m, h) => m.length * spread[h]);
+  const wSum = weight.reduce((a, b) => a + b, 0);
+  const alloc = members.map((m, h) => Math.min(m.length, Math.max(2, Math.round((n * weight[h]) / wSum))));
+  const rnd = prng(opts.seed);
+  const sample: string[] = [];
+  members.forEach((m, h) => {
+    const idx = m.map((c) => c.id);
+    for (let i = 0; i < alloc[h]; i++) {
+      const j = i + Math.floor(rnd() * (idx.length - i));
+      [idx[i], idx[j]] = [idx[j], idx[i]];
+      sample.push(idx[i]);
+    }
+  });
+  return { seed: opts.seed, cellSizeM: side, cells, strata: names, sample };
+}
+
+/** Cell that holds a point under the half-open rule, or undefined (for counting added objects into cells). */
+export function cellOf(design: SampleDesign, xM: number, yM: number): SampleCell | undefined {
+  const side = design.cellSizeM;
+  return design.cells.find((c) => xM >= c.x0M && xM < c.x0M + side && yM >= c.y0M && yM < c.y0M + side);
+}
