@@ -16,7 +16,6 @@ export const COUNT_COLUMNS: readonly (readonly [string, keyof CountRow | ((r: Co
   ['coverage', 'coverage'],
   ['gsd_m', 'gsdM'],
   ['min_score', 'minScore'],
-  ['counting_rule', 'countingRule'],
   // from a checked sample (check-sample.ts, stratified-estimate.ts); empty until one is checked
   ['estimated_count', (r) => r.estimate?.count ?? ''],
   ['estimate_se', (r) => r.estimate?.se ?? ''],
@@ -24,6 +23,7 @@ export const COUNT_COLUMNS: readonly (readonly [string, keyof CountRow | ((r: Co
   ['estimate_ci95_high', (r) => r.estimate?.ci95[1] ?? ''],
   ['cells_checked', (r) => r.estimate?.cellsChecked ?? 0],
   ['estimate_method', (r) => r.estimate?.method ?? ''],
+  ['counting_rule', 'countingRule'],
 ];
 
 export interface CsvOptions {
