@@ -22,6 +22,13 @@ export interface ResolutionCaveat {
   pxAcross: number;
   /** Recall interpolated from the model's measured recall-vs-GSD curve; null when not measured at this GSD. */
   recallAtGsd: number | null;
+  /** Precision interpolated the same way; null when not measured. */
+  precisionAtGsd: number | null;
+  /**
+   * Expected ratio of detected to true objects, recall / precision (detections = true positives / precision, true
+   * positives = recall × true objects); null unless both are measured. Above 1: the count tends to be high.
+   */
+  expectedCountRatio: number | null;
   level: CaveatLevel;
   reason: string;
 }
@@ -67,16 +74,24 @@ export function resolutionCaveat(input: ResolutionCaveatInput): ResolutionCaveat
   const pxAcross = criticalDimM / gsdM;
   const curve = quality?.recall?.[className];
   const recallAtGsd = quality && curve ? interpolateCurve(quality.gsdM, curve, gsdM) : null;
+  const pCurve = quality?.precision?.[className];
+  const precisionAtGsd = quality && pCurve ? interpolateCurve(quality.gsdM, pCurve, gsdM) : null;
+  const expectedCountRatio = recallAtGsd !== null && precisionAtGsd !== null && precisionAtGsd > 0 ? recallAtGsd / precisionAtGsd : null;
   const across = `${fmt(pxAcross)} px across a ${className}'s ${fmt(criticalDimM, 2)} m width at ${fmt(gsdM, 2)} m GSD`;
-  const base = { className, gsdM, pxAcross, recallAtGsd };
+  const base = { className, gsdM, pxAcross, recallAtGsd, precisionAtGsd, expectedCountRatio };
   if (pxAcross < JOHNSON_DETECTION_PX) {
     return { ...base, level: 'not-reliable', reason: `Only ${across}: fewer than the ${JOHNSON_DETECTION_PX} px needed to detect it at all (Johnson criteria). Counts here are not reliable.` };
   }
   if (recallAtGsd !== null) {
-    const found = `the model found ${pct(recallAtGsd)} of them at this GSD in its evaluation`;
-    if (recallAtGsd >= RELIABLE_RECALL) return { ...base, level: 'reliable', reason: `${cap(across)}; ${found}.` };
-    if (recallAtGsd >= CARE_RECALL) return { ...base, level: 'use-with-care', reason: `${cap(across)}; ${found}, so some are missed: counts are likely low.` };
-    return { ...base, level: 'not-reliable', reason: `${cap(across)}; ${found}, so many are missed: counts are not reliable.` };
+    const found = precisionAtGsd !== null
+      ? `in its evaluation at this GSD the model found ${pct(recallAtGsd)} of them and ${pct(precisionAtGsd)} of its detections were real`
+      : `the model found ${pct(recallAtGsd)} of them at this GSD in its evaluation`;
+    // the direction of the error: from recall and precision together, never from recall alone when precision is known
+    const direction = expectedCountRatio !== null ? countDirection(expectedCountRatio) : 'some are missed: counts are likely low';
+    const worst = Math.min(recallAtGsd, precisionAtGsd ?? 1);
+    if (worst >= RELIABLE_RECALL) return { ...base, level: 'reliable', reason: `${cap(across)}; ${found}${expectedCountRatio !== null ? `; ${direction}` : ''}.` };
+    if (worst >= CARE_RECALL) return { ...base, level: 'use-with-care', reason: `${cap(across)}; ${found}, so ${direction}.` };
+    return { ...base, level: 'not-reliable', reason: `${cap(across)}; ${found}, so ${direction}: counts are not reliable.` };
   }
   const unmeasured = curve ? 'the model was not measured at a GSD this coarse' : 'the model has no measured recall for this class';
   if (pxAcross >= JOHNSON_RECOGNITION_PX) {
@@ -86,6 +101,13 @@ export function resolutionCaveat(input: ResolutionCaveatInput): ResolutionCaveat
 }
 
 function cap(s: string): string { return s.charAt(0).toUpperCase() + s.slice(1); }
+
+/** Plain words for an expected detected / true ratio (within ±5 %: about right). */
+export function countDirection(ratio: number): string {
+  if (ratio > 1.05) return `the detector tends to over-count here by about ${Math.round((ratio - 1) * 100)} %`;
+  if (ratio < 0.95) return `the detector tends to miss about ${Math.round((1 - ratio) * 100)} % here`;
+  return 'misses and false detections about cancel here, so counts come out about right';
+}
 
 /** A note when a scene is coarser than the model's GSD and is therefore upsampled; null otherwise. */
 export function upsamplingNote(sceneGsdM: number, modelGsdM: number): string | null {

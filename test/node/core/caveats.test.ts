@@ -23,6 +23,20 @@ describe('resolutionCaveat', () => {
     const at08 = resolutionCaveat({ className: 'vehicle', gsdM: 0.8, criticalDimM: 1.8, quality });
     expect(at08.level).toBe('not-reliable');
   });
+  it('with precision measured too, the caveat says the direction of the error: detected / true = recall / precision', () => {
+    // recall 0.9 and precision 0.75 → 1.2 detections per true object: over-counting by 20 %, never "likely low"
+    const q = { gsdM: [0.15, 0.3], recall: { vehicle: [0.9, 0.9] }, precision: { vehicle: [0.75, 0.75] } };
+    const over = resolutionCaveat({ className: 'vehicle', gsdM: 0.3, criticalDimM: 1.8, quality: q });
+    expect(over.expectedCountRatio).toBeCloseTo(1.2, 12);
+    expect(over.level).toBe('use-with-care'); // the lower of recall and precision decides the level
+    expect(over.reason).toMatch(/over-count here by about 20 %/);
+    expect(over.reason).not.toMatch(/likely low/);
+    const under = resolutionCaveat({ className: 'vehicle', gsdM: 0.3, criticalDimM: 1.8, quality: { ...q, precision: { vehicle: [0.95, 0.95] }, recall: { vehicle: [0.76, 0.76] } } });
+    expect(under.reason).toMatch(/miss about 20 %/);
+    const even = resolutionCaveat({ className: 'vehicle', gsdM: 0.3, criticalDimM: 1.8, quality: { ...q, precision: { vehicle: [0.9, 0.9] } } });
+    expect(even.level).toBe('reliable');
+    expect(even.reason).toMatch(/about right/);
+  });
   it('without a measured recall the level is at most use-with-care, with the Johnson recognition line in the reason', () => {
     const fine = resolutionCaveat({ className: 'solar_panel', gsdM: 0.1, criticalDimM: 1.0, quality });
     expect(fine.recallAtGsd).toBeNull();
