@@ -3,8 +3,8 @@ import { closeSync, existsSync, mkdirSync, openSync, readFileSync, readSync, ren
 import { basename, join } from 'node:path';
 import { parseArgs } from 'node:util';
 import { parseAois, reprojectAoi, type AoiInCrs } from '../web/core/aoi.ts';
-import { countPerAoi, type CountAoi } from '../web/core/counts.ts';
-import { dateNotes } from '../web/core/date-notes.ts';
+import type { CountAoi } from '../web/core/counts.ts';
+import { tallyDate } from '../web/core/tally.ts';
 import { aoiCoverage, frameToScenePxMapping, type CoverageMask } from '../web/core/coverage.ts';
 import { epsgName } from '../web/core/crs.ts';
 import { SeamtallyError } from '../web/core/errors.ts';
@@ -194,8 +194,9 @@ export async function run(argv: string[]): Promise<number> {
     const detections = merged.frameCrs ? merged : { ...merged, frameCrs: epsgName(frameEpsg) };
     const mergeMs = performance.now() - t0;
     const minScore = pipelines[0]?.minScore ?? DEFAULT_MIN_SCORE;
-    const gsdM = Math.max(...sources.map((s) => s.info.georef.gsdM));
-    const rows = countPerAoi({ detections, classes: sidecar.classes, aois: countAois, date, gsdM }, { minScore });
+    // the tally the app shows (core/tally.ts): counts, their Garwood interval, caveats and the date's notes
+    const tally = tallyDate({ detections, aois: countAois, dateIso: date, scenes: sources.map((s) => ({ name: s.info.name, georef: s.info.georef })), sidecar }, minScore);
+    const { gsdM, rows } = tally;
     const scenesMeta = sources.map((s) => ({ name: s.info.name, acquisitionDate: s.info.acquisitionDate ?? date, gsdM: s.info.georef.gsdM }));
     const geojson = detectionsToGeoJson({ detections, classes: sidecar.classes, scenes: scenesMeta }, { minScore });
     mkdirSync(args.out, { recursive: true });
@@ -204,7 +205,7 @@ export async function run(argv: string[]): Promise<number> {
     const plans = pipelines.map((p) => ({ scene: p.source.info.name, tilePx: p.plan.tilePx, overlapPx: p.plan.overlapPx, tiles: p.plan.tiles.length, overheadRatio: p.plan.overheadRatio, bands: p.bands.indices.map((b) => b + 1), stretch: p.stretch }));
     const timing = { tilesRun, msPerTile: tilesRun ? { read: totals.readMs / tilesRun, resampleNormalise: totals.resampleMs / tilesRun, infer: totals.inferMs / tilesRun, decode: totals.decodeMs / tilesRun } : null, mergeMs, totalMs: performance.now() - started };
     // The same notes the app's tally shows: resolution caveats at the coarsest scene's GSD, upsampling, low sun.
-    const notes = { gsdM, ...dateNotes(sidecar, gsdM, date, sources.map((s) => s.info.georef)) };
+    const notes = { gsdM, caveats: tally.caveats, upsampling: tally.upsampling, noonSunDeg: tally.noonSunDeg, lowSun: tally.lowSun };
     writeAtomic(join(args.out, 'counts.json'), JSON.stringify(countsToJson(rows, COUNTING_RULE, { model: sidecar.name ?? basename(args.model), frameCrs: detections.frameCrs, date, scenes: scenesMeta, tiling: plans, timing, notes }), null, 2) + '\n');
     if (!args.quiet) {
       for (const r of rows) process.stderr.write(`${r.aoiName} ${r.date} ${r.className}: ${r.count} (coverage ${(r.coverage * 100).toFixed(1)} %)\n`);

@@ -33,5 +33,5 @@ export function detectionsGeoJson(state: AppState): DetectionsFeatureCollection 
 
 /** The tally as CSV (one row per AOI × date × class, with detected and reviewed figures and the counting rule). */
 export function countsCsv(tally: DateTally[]): string {
-  return countsToCsv(tally.flatMap((t) => t.rows.map(({ interval: _i, caveat: _c, ...row }) => row)));
+  return countsToCsv(tally.flatMap((t) => t.rows));
 }

@@ -1,13 +1,20 @@
 // Per-AOI counts as CSV (RFC 4180 quoting, formula-safe) and as JSON.
 import type { CountRow } from './counts.ts';
+import type { Interval } from './poisson-stats.ts';
+
+/** A counts row as exported: the core tally's row (interval present) or a bare CountRow. */
+export type ExportRow = CountRow & { interval?: Interval };
 
 /** CSV columns, in order, with the CountRow field (or function of the row) each comes from. */
-export const COUNT_COLUMNS: readonly (readonly [string, keyof CountRow | ((r: CountRow) => string | number)])[] = [
+export const COUNT_COLUMNS: readonly (readonly [string, keyof CountRow | ((r: ExportRow) => string | number)])[] = [
   ['aoi_id', 'aoiId'],
   ['aoi', 'aoiName'],
   ['date', 'date'],
   ['class', 'className'],
   ['count', 'count'],
+  // 95 % exact Poisson interval of the count (Garwood): counting noise only
+  ['count_ci95_low', (r) => r.interval?.lower ?? ''],
+  ['count_ci95_high', (r) => r.interval?.upper ?? ''],
   ['detected_count', 'detectedCount'],
   ['reviewed_count', 'reviewedCount'],
   ['area_ha', 'areaHa'],
@@ -46,7 +53,7 @@ export function csvField(value: string | number, options: CsvOptions = {}): stri
 }
 
 /** The counts table as CSV text with a header row. */
-export function countsToCsv(rows: readonly CountRow[], options: CsvOptions = {}): string {
+export function countsToCsv(rows: readonly ExportRow[], options: CsvOptions = {}): string {
   const eol = options.eol ?? '\r\n';
   const lines = [COUNT_COLUMNS.map(([h]) => h).join(',')];
   for (const r of rows) lines.push(COUNT_COLUMNS.map(([, k]) => csvField(typeof k === 'function' ? k(r) : (r[k] as string | number), options)).join(','));

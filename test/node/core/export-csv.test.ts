@@ -23,9 +23,10 @@ describe('countsToCsv', () => {
     names.forEach((n, i) => {
       const r = parsed[i + 1];
       expect(r[1]).toBe(n.startsWith('=') ? `'${n}` : n); // formulas are defused
-      expect(Number(r[4])).toBe(i);
-      expect(Number(r[5])).toBe(i + 2);
-      expect(Number(r[7])).toBeCloseTo(1.2345678, 6);
+      const col = (h: string) => r[COUNT_COLUMNS.findIndex(([name]) => name === h)];
+      expect(Number(col('count'))).toBe(i);
+      expect(Number(col('detected_count'))).toBe(i + 2);
+      expect(Number(col('area_ha'))).toBeCloseTo(1.2345678, 6);
       expect(r[r.length - 1]).toBe(COUNTING_RULE);
     });
     expect(csv.endsWith('\r\n')).toBe(true);

@@ -1,0 +1,42 @@
+// One date's tally, the same for every caller (the page's tally worker view, `seamtally detect`, the exports and the
+// report): per AOI × class the count under the rule (counts.ts) with its 95 % Poisson interval (Garwood), the
+// resolution caveat of its class, and the date's notes (caveats, upsampling, noon sun, low sun; date-notes.ts).
+import { countPerAoi, type CountAoi, type CountRow } from './counts.ts';
+import type { ResolutionCaveat } from './caveats.ts';
+import { dateNotes, type DateNotes } from './date-notes.ts';
+import type { SceneGeoref } from './georef.ts';
+import type { ModelSidecar } from './model-contract.ts';
+import { garwoodInterval, type Interval } from './poisson-stats.ts';
+import type { DetectionTable, ReviewState } from './types.ts';
+
+export interface TallyRow extends CountRow {
+  /** 95 % exact Poisson interval of the count (Garwood): counting noise only, not the detector's error. */
+  interval: Interval;
+  caveat: ResolutionCaveat | null;
+}
+
+export interface DateTally extends DateNotes {
+  dateIso: string;
+  /** The coarsest GSD among the date's scenes (the one the notes are for). */
+  gsdM: number;
+  sceneNames: string[];
+  rows: TallyRow[];
+}
+
+export interface TallyInput {
+  detections: DetectionTable;
+  review?: readonly ReviewState[];
+  aois: readonly CountAoi[];
+  dateIso: string;
+  scenes: readonly { name: string; georef: Pick<SceneGeoref, 'epsg' | 'geoTransform' | 'widthPx' | 'heightPx' | 'gsdM'> }[];
+  sidecar: Pick<ModelSidecar, 'classes' | 'objects' | 'quality' | 'inputGsdM' | 'lowSun'>;
+}
+
+/** The tally of one date at the counting threshold `minScore`. */
+export function tallyDate(input: TallyInput, minScore: number): DateTally {
+  const gsdM = Math.max(...input.scenes.map((s) => s.georef.gsdM));
+  const counts = countPerAoi({ detections: input.detections, classes: input.sidecar.classes, review: input.review, aois: input.aois, date: input.dateIso, gsdM }, { minScore });
+  const notes = dateNotes(input.sidecar, gsdM, input.dateIso, input.scenes.map((s) => s.georef));
+  const rows = counts.map((r) => ({ ...r, interval: garwoodInterval(r.count), caveat: notes.caveats.find((c) => c.className === r.className) ?? null }));
+  return { dateIso: input.dateIso, gsdM, sceneNames: input.scenes.map((s) => s.name), rows, ...notes };
+}
