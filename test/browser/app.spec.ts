@@ -157,3 +157,17 @@ test('a scene in another CRS opened after the first ones: the map takes its CRS 
   expect(Number(m![1]) * (m![2] === 'km' ? 1000 : 1)).toBeLessThanOrEqual(25);
   await page.screenshot({ path: 'test-results/app-lv95-crop.png' });
 });
+
+test('a file without a date gets a suggestion from its name, marked unconfirmed until the analyst confirms it', async ({ page }) => {
+  const crop = join(fx.dir, 'roofs_20230614_lv95.tif');
+  execFileSync('gdal_translate', ['-q', '-a_srs', 'EPSG:2056', '-a_ullr', '2558426.5', '1217469.5', '2558451.5', '1217444.5',
+    'test/fixtures/real/ortho_2558439_1217457.png', crop]);
+  await openFixture(page);
+  const [chooser] = await Promise.all([page.waitForEvent('filechooser'), page.click('[data-testid=dropzone] button')]);
+  await chooser.setFiles(crop);
+  const item = page.locator('[data-testid=scene-list] li[data-scene="roofs_20230614_lv95.tif"]');
+  await expect(item.locator('input[type=date]')).toHaveValue('2023-06-14');
+  await expect(item.locator('[data-testid=date-unconfirmed]')).toBeVisible();
+  await item.locator('[data-testid=confirm-date]').click();
+  await expect(item.locator('[data-testid=date-unconfirmed]')).toHaveCount(0);
+});

@@ -21,7 +21,10 @@ export function mountComparePanel(state: AppState, el: HTMLElement, getTally: ()
     h('p.muted', {}, 'p: two-sided exact conditional test for two Poisson counts (Przyborowski & Wilenski), with each date\'s imaged area as exposure. A small p says the change in density is unlikely to be chance alone; it says nothing about detector errors.'));
 
   const render = () => {
-    const tally = getTally();
+    const all = getTally();
+    // a date the analyst has not confirmed is not compared (it may be today's date, not the acquisition's)
+    const tally = all.filter((t) => t.dateConfirmed);
+    const waiting = all.filter((t) => !t.dateConfirmed).map((t) => t.dateIso);
     const dates = tally.map((t) => t.dateIso);
     const keep = (sel: HTMLSelectElement, fallback: string | undefined) => {
       const cur = dates.includes(sel.value) ? sel.value : fallback ?? '';
@@ -33,7 +36,8 @@ export function mountComparePanel(state: AppState, el: HTMLElement, getTally: ()
     renderCountsChart(canvas, tally);
     const a = tally.find((t) => t.dateIso === selA.value);
     const b = tally.find((t) => t.dateIso === selB.value);
-    if (!a || !b || a === b) { setChildren(table, h('p.muted', {}, 'Open scenes of two dates and run the detector to compare them.')); return; }
+    const wait = waiting.length ? h('p.weak', { dataset: { testid: 'unconfirmed-dates' } }, `Not compared until you confirm ${waiting.length > 1 ? 'their dates' : 'its date'} in the Imagery list: ${waiting.join(', ')}.`) : null;
+    if (!a || !b || a === b) { setChildren(table, h('p.muted', {}, 'Open scenes of two dates and run the detector to compare them.'), wait); return; }
     const rows = compareDates(a, b, state.model?.sidecar.lowSun);
     setChildren(table, h('table.grid', {},
       h('thead', {}, h('tr', {}, ...['Area', 'Class', a.dateIso, b.dateIso, 'Change', '%', 'p', 'Strength'].map((t, i) => h(i < 2 || i === 7 ? 'th.l' : 'th', {}, t)))),
@@ -43,7 +47,7 @@ export function mountComparePanel(state: AppState, el: HTMLElement, getTally: ()
         h('td', {}, `${c.change > 0 ? '+' : ''}${c.change}`), h('td', {}, c.changePct === null ? '–' : `${c.changePct > 0 ? '+' : ''}${fmt(c.changePct, 0)}`),
         h('td', {}, c.test ? (c.test.pValue < 0.001 ? '<0.001' : fmt(c.test.pValue, 3)) : '–'),
         c.weakReasons.length ? h('td.l.weak', { title: c.weakReasons.join('; ') }, 'weak') : h('td.l.lvl-reliable', {}, 'like for like'))))),
-      weakNotes(rows));
+      weakNotes(rows), wait);
   };
   // Only while the tab is shown: updating the chart is the costliest part of a results change during a run.
   const update = renderWhenShown(el, render);

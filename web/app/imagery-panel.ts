@@ -1,6 +1,6 @@
 // The "Imagery" block: drop or pick GeoTIFF/COG files, or give a URL; scenes listed by date (editable dates).
 import type { AppState } from './state.ts';
-import { scenesByDate } from './state.ts';
+import { isDateConfirmed, scenesByDate } from './state.ts';
 import { h, setChildren, fmt } from './dom.ts';
 import { openScene, removeScene, setSceneDate, type SceneServices } from './scene-open.ts';
 import { pickFiles } from './download.ts';
@@ -40,7 +40,11 @@ export function mountImageryPanel(state: AppState, el: HTMLElement, dropTarget: 
         return h('li', { dataset: { scene: s.name } },
           h('div.name', {}, s.name, s.input ? '' : h('span.weak', {}, ' (drop the file again to reopen it)')),
           h('div.muted', {}, `${info.widthPx} × ${info.heightPx} px · ${fmt(info.georef.gsdM, 2)} m GSD · EPSG:${info.georef.epsg} · ${info.bandCount} band${info.bandCount > 1 ? 's' : ''}, ${info.significantBits}-bit`),
-          h('div.row', {}, date, h('button.small', { onclick: () => removeScene(state, svc, s.fingerprint) }, 'Remove')));
+          h('div.row', {}, date,
+            isDateConfirmed(s) ? null : h('button.small.primary', { dataset: { testid: 'confirm-date' }, title: 'The file carries no date: this one is a suggestion. Sun notes and comparisons wait for your confirmation.',
+              onclick: () => setSceneDate(state, s.fingerprint, date.value) }, 'Confirm date'),
+            h('button.small', { onclick: () => removeScene(state, svc, s.fingerprint) }, 'Remove')),
+          isDateConfirmed(s) ? null : h('div.weak', { dataset: { testid: 'date-unconfirmed' } }, 'Date suggested, not confirmed.'));
       })))));
     if (groups.length === 0) list.append(h('div.muted', {}, 'No imagery yet.'));
   };

@@ -7,6 +7,7 @@ import { fingerprintScene } from './fingerprint.ts';
 import { toErrorInfo, fromErrorInfo } from '../core/errors.ts';
 import { checkImageryUrl } from './egress.ts';
 import { adoptSceneCrs } from './scene-crs.ts';
+import { dateFromFileName } from '../core/scene-date.ts';
 
 /** Longest side of the overview picture drawn on the map. */
 const PREVIEW_LONG_SIDE_PX = 2048;
@@ -50,12 +51,16 @@ export async function openScene(state: AppState, svc: SceneServices, input: Scen
     const info = { ...r.value.info, name };
     const kept = (await state.store?.allScenes())?.find((s) => s.fingerprint === fingerprint);
     let dateIso = kept?.dateIso ?? opts.dateIso ?? info.acquisitionDate ?? null;
+    let dateConfirmed = kept ? kept.dateConfirmed !== false : true;
     if (!dateIso) {
-      dateIso = new Date(input.kind === 'file' ? input.file.lastModified : Date.now()).toISOString().slice(0, 10);
-      state.events.emit('notice', { level: 'info', text: `${name} carries no acquisition date; it was set to ${dateIso}. Correct it in the Imagery list.` });
+      // no date in the file: suggest one (file name, else the file's modification date), never act on it unconfirmed
+      const fromName = dateFromFileName(name);
+      dateIso = fromName ?? new Date(input.kind === 'file' ? input.file.lastModified : Date.now()).toISOString().slice(0, 10);
+      dateConfirmed = false;
+      state.events.emit('notice', { level: 'info', text: `${name} carries no acquisition date; ${dateIso} is suggested from its ${fromName ? 'file name' : 'modification date'}. Confirm or correct it in the Imagery list: until then no sun notes or comparisons use it.` });
     }
     const entry: SceneEntry = {
-      fingerprint, name, dateIso, origin: originOf(input), info, description: { ...r.value, info }, addedMs: Date.now(), input,
+      fingerprint, name, dateIso, dateConfirmed, origin: originOf(input), info, description: { ...r.value, info }, addedMs: Date.now(), input,
     };
     state.scenes = [...state.scenes, entry];
     const { input: _live, ...record } = entry;
@@ -84,6 +89,7 @@ export async function setSceneDate(state: AppState, fingerprint: string, dateIso
   const s = state.scenes.find((x) => x.fingerprint === fingerprint);
   if (!s || !/^\d{4}-\d{2}-\d{2}$/.test(dateIso)) return;
   s.dateIso = dateIso;
+  s.dateConfirmed = true; // set or kept by the analyst: confirmed
   const { input: _live, ...record } = s;
   await state.store?.putScene(record);
   state.events.emit('scenes-changed');

@@ -16,6 +16,11 @@ export interface SceneRecord {
   name: string;
   /** Acquisition date YYYY-MM-DD (from the file, editable). Scenes of one date form one mosaic. */
   dateIso: string;
+  /**
+   * False while the date is only a suggestion (file name or modification date) the analyst has not confirmed: nothing
+   * date-dependent (sun notes, comparisons) is shown for it. Absent in records kept before this field: confirmed.
+   */
+  dateConfirmed?: boolean;
   origin: SceneOrigin;
   info: SceneInfo;
   /** Radiometry (band choice, per-scene stretch) and CRS definition, as the worker described the scene. */
@@ -128,6 +133,11 @@ export function setThreshold(state: AppState, minScore: number): void {
   if (v === state.minScore) return;
   state.minScore = v;
   state.events.emit('threshold-changed');
+}
+
+/** True unless the scene's date is an unconfirmed suggestion. */
+export function isDateConfirmed(s: Pick<SceneRecord, 'dateConfirmed'>): boolean {
+  return s.dateConfirmed !== false;
 }
 
 export function scenesByDate(state: AppState): Array<{ dateIso: string; scenes: SceneEntry[] }> {

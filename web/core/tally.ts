@@ -17,6 +17,8 @@ export interface TallyRow extends CountRow {
 
 export interface DateTally extends DateNotes {
   dateIso: string;
+  /** False while the date is an unconfirmed suggestion: noonSunDeg is null and lowSun empty, comparisons skip it. */
+  dateConfirmed: boolean;
   /** The coarsest GSD among the date's scenes (the one the notes are for). */
   gsdM: number;
   sceneNames: string[];
@@ -30,13 +32,17 @@ export interface TallyInput {
   dateIso: string;
   scenes: readonly { name: string; georef: Pick<SceneGeoref, 'epsg' | 'geoTransform' | 'widthPx' | 'heightPx' | 'gsdM'> }[];
   sidecar: Pick<ModelSidecar, 'classes' | 'objects' | 'quality' | 'inputGsdM' | 'lowSun'>;
+  /** False while the date is an unconfirmed suggestion: no sun notes for it (default true). */
+  dateConfirmed?: boolean;
 }
 
 /** The tally of one date at the counting threshold `minScore`. */
 export function tallyDate(input: TallyInput, minScore: number): DateTally {
   const gsdM = Math.max(...input.scenes.map((s) => s.georef.gsdM));
   const counts = countPerAoi({ detections: input.detections, classes: input.sidecar.classes, review: input.review, aois: input.aois, date: input.dateIso, gsdM }, { minScore });
+  const dateConfirmed = input.dateConfirmed ?? true;
   const notes = dateNotes(input.sidecar, gsdM, input.dateIso, input.scenes.map((s) => s.georef));
+  if (!dateConfirmed) { notes.noonSunDeg = null; notes.lowSun = []; }
   const rows = counts.map((r) => ({ ...r, interval: garwoodInterval(r.count), caveat: notes.caveats.find((c) => c.className === r.className) ?? null }));
-  return { dateIso: input.dateIso, gsdM, sceneNames: input.scenes.map((s) => s.name), rows, ...notes };
+  return { dateIso: input.dateIso, dateConfirmed, gsdM, sceneNames: input.scenes.map((s) => s.name), rows, ...notes };
 }

@@ -16,7 +16,7 @@ function row(date: string, count: number): TallyRow {
   } as TallyRow;
 }
 function tally(date: string, noonSunDeg: number | null, count: number): DateTally {
-  return { dateIso: date, gsdM: 0.3, sceneNames: ['s'], rows: [row(date, count)], caveats: [], upsampling: null, noonSunDeg, lowSun: [] };
+  return { dateIso: date, dateConfirmed: true, gsdM: 0.3, sceneNames: ['s'], rows: [row(date, count)], caveats: [], upsampling: null, noonSunDeg, lowSun: [] };
 }
 
 describe('the sun of a date', () => {
