@@ -81,6 +81,8 @@ test('a reload in the middle of a run resumes from what was kept and ends with t
   await openFixture(page, '&pace=120&workers=1');
   await page.click('[data-testid=run]');
   await page.waitForFunction(() => Number(document.querySelector<HTMLElement>('[data-testid=run-stats]')?.dataset.done) >= 8);
+  // mid-run the tally says its counts are partial
+  await expect(page.locator('[data-testid=tally-partial]')).toContainText(/partial until the run ends/);
   await page.reload();
   await page.waitForSelector('body[data-ready=true]');
   await expect(page.locator('[data-testid=run-stats]')).toHaveAttribute('data-status', 'done', { timeout: 120_000 });

@@ -46,11 +46,12 @@ export function mountTallyPanel(state: AppState, el: HTMLElement, coverage: Cove
     state.shownDate = dateSel.value || null; state.events.emit('shown-date-changed');
   } });
   const table = h('div', { dataset: { testid: 'tally' } });
+  const runNote = h('div');
   const notes = h('div.muted');
   el.append(
     h('div.row', {}, h('label', {}, 'Score ≥ ', slider, ' ', value)),
     h('div.row', {}, h('label', {}, 'Map shows ', dateSel)),
-    table, notes,
+    runNote, table, notes,
     h('p.muted', {}, `Counting rule: ${COUNTING_RULE}`),
   );
 
@@ -71,6 +72,10 @@ export function mountTallyPanel(state: AppState, el: HTMLElement, coverage: Cove
       setChildren(dateSel, h('option', { value: '' }, 'all dates'), ...dates.map((d) => h('option', { value: d, selected: state.shownDate === d }, d)));
     }
     const tally = current();
+    // while a run goes, the counts so far are partial: say so above the table and on every count
+    const pr = state.progress;
+    const partial = pr.status === 'running' || pr.status === 'merging';
+    setChildren(runNote, partial ? h('div.weak', { dataset: { testid: 'tally-partial' } }, `Counts so far: ${pr.tilesDone} of ${pr.tilesTotal} tiles done. They are partial until the run ends.`) : null);
     if (tally.length === 0) { setChildren(table, h('p.muted', {}, 'Run the detector to see counts.')); setChildren(notes); return; }
     if (state.aois.length === 0) { setChildren(table, h('p.muted', {}, 'Draw or import an area to count inside it.')); }
     else {
@@ -80,7 +85,7 @@ export function mountTallyPanel(state: AppState, el: HTMLElement, coverage: Cove
           h('tr.datehead', {}, h('td.l', { colSpan: headers.length }, `${d.dateIso} · ${fmt(d.gsdM, 2)} m GSD · ${d.sceneNames.length} scene${d.sceneNames.length > 1 ? 's' : ''}${d.noonSunDeg === null ? '' : ` · sun at most ${fmt(d.noonSunDeg, 0)}° (noon)`}`)),
           ...d.rows.map((r) => h('tr', { dataset: { aoi: r.aoiName, date: r.date, cls: r.className, count: String(r.count), detected: String(r.detectedCount), reviewed: String(r.reviewedCount), coverage: String(r.coverage) } },
             h('td.l', {}, r.aoiName), h(`td.l.cls-${r.className}`, {}, r.className),
-            h('td', {}, h('b', {}, String(r.count))), h('td', {}, String(r.detectedCount)), h('td', {}, String(r.reviewedCount)),
+            h('td', partial ? { title: 'partial: the run has not finished' } : {}, h('b', {}, `${r.count}${partial ? '…' : ''}`)), h('td', {}, String(r.detectedCount)), h('td', {}, String(r.reviewedCount)),
             h('td', {}, `${fmt(r.interval.lower, 1)}–${fmt(r.interval.upper, 1)}`),
             h('td', {}, fmt(r.areaHa, 2)), h('td', {}, fmt(r.densityPerHa, 2)), h('td', {}, Number.isNaN(r.coverage) ? '…' : `${fmt(r.coverage * 100, 0)} %`),
             r.caveat ? h(`td.l.${levelClass[r.caveat.level]}`, { title: r.caveat.reason }, levelWords[r.caveat.level]) : h('td.l.muted', {}, '–'))),
@@ -97,6 +102,8 @@ export function mountTallyPanel(state: AppState, el: HTMLElement, coverage: Cove
     if (!scheduled) { scheduled = true; setTimeout(render, 0); }
   };
   for (const ev of ['results-changed', 'threshold-changed', 'review-changed', 'aois-changed', 'scenes-changed', 'model-changed', 'coverage-changed'] as const) state.events.on(ev, changed);
+  // progress alone changes no count: re-render (the partial note) without recomputing the tally
+  state.events.on('run-progress', () => { if (!scheduled) { scheduled = true; setTimeout(render, 0); } });
   render();
   return { current };
 }
