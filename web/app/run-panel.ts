@@ -22,8 +22,9 @@ export function mountRunPanel(state: AppState, el: HTMLElement, runs: RunControl
   const render = () => {
     const p = state.progress;
     const busy = p.status === 'running' || p.status === 'merging';
-    go.disabled = busy || !state.model;
-    go.textContent = p.status === 'cancelled' ? 'Resume' : 'Detect';
+    // Detect waits for the model and for scenes still opening (a click then would find no imagery)
+    go.disabled = busy || !state.model || state.opening > 0;
+    go.textContent = state.opening > 0 ? `Opening ${state.opening} scene${state.opening > 1 ? 's' : ''}…` : !state.model ? 'Loading detector…' : p.status === 'cancelled' ? 'Resume' : 'Detect';
     stop.disabled = !busy;
     const share = p.tilesTotal ? p.tilesDone / p.tilesTotal : 0;
     bar.style.transform = `scaleX(${share.toFixed(4)})`;
@@ -38,5 +39,6 @@ export function mountRunPanel(state: AppState, el: HTMLElement, runs: RunControl
   };
   state.events.on('run-progress', render);
   state.events.on('model-changed', render);
+  state.events.on('scenes-changed', render);
   render();
 }

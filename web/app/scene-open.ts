@@ -29,6 +29,8 @@ function nameOf(input: SceneInput): string {
  */
 export async function openScene(state: AppState, svc: SceneServices, input: SceneInput, opts: { dateIso?: string } = {}): Promise<SceneEntry | null> {
   let name = input.kind === 'file' ? input.file.name : input.url;
+  state.opening++;
+  state.events.emit('scenes-changed');
   try {
     if (input.kind === 'url') checkImageryUrl(input.url);
     name = nameOf(input);
@@ -73,6 +75,9 @@ export async function openScene(state: AppState, svc: SceneServices, input: Scen
     const message = toErrorInfo(err).message;
     state.events.emit('notice', { level: 'error', text: message.includes(name) ? message : `${name}: ${message}` });
     return null;
+  } finally {
+    state.opening--;
+    state.events.emit('scenes-changed');
   }
 }
 

@@ -88,6 +88,8 @@ export interface AppState {
   /** Score threshold of the slider; every count uses it. */
   minScore: number;
   progress: RunProgress;
+  /** Scenes being opened now (described, previewed): Detect waits for them. */
+  opening: number;
   results: DateDetections[];
   review: Map<string, ReviewState>;
   added: AddedBox[];
@@ -113,6 +115,7 @@ export function createAppState(store: WorkStore | null): AppState {
     areasOnly: false,
     minScore: DEFAULT_MIN_SCORE,
     progress: { status: 'idle', tilesDone: 0, tilesTotal: 0, tilesFailed: 0, startedMs: 0, tilesPerS: 0, message: '' },
+    opening: 0,
     results: [],
     review: new Map(),
     added: [],
