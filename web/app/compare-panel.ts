@@ -4,6 +4,7 @@ import type { DateTally } from './tally.ts';
 import { compareDates } from './compare.ts';
 import { h, setChildren, fmt, renderWhenShown } from './dom.ts';
 import { renderCountsChart } from './counts-chart.ts';
+import { formatPValue } from '../core/poisson-stats.ts';
 
 /** One line per distinct reason why comparisons are weak (the table cells carry them as tooltips). */
 function weakNotes(rows: ReturnType<typeof compareDates>): HTMLElement {
@@ -45,7 +46,7 @@ export function mountComparePanel(state: AppState, el: HTMLElement, getTally: ()
         h('td.l', {}, c.aoiName), h(`td.l.cls-${c.className}`, {}, c.className),
         h('td', {}, String(c.before.count)), h('td', {}, String(c.after.count)),
         h('td', {}, `${c.change > 0 ? '+' : ''}${c.change}`), h('td', {}, c.changePct === null ? '–' : `${c.changePct > 0 ? '+' : ''}${fmt(c.changePct, 0)}`),
-        h('td', {}, c.test ? (c.test.pValue < 0.001 ? '<0.001' : fmt(c.test.pValue, 3)) : '–'),
+        h('td', {}, c.test ? formatPValue(c.test.pValue) : '–'),
         c.weakReasons.length ? h('td.l.weak', { title: c.weakReasons.join('; ') }, 'weak') : h('td.l.lvl-reliable', {}, 'like for like'))))),
       weakNotes(rows), wait);
   };

@@ -8,17 +8,18 @@ import { renderCountsChart } from './counts-chart.ts';
 import { compareDates } from './compare.ts';
 import { cautionLines } from './cautions.ts';
 import { COUNTING_RULE } from '../core/point-in-polygon.ts';
+import { formatPValue } from '../core/poisson-stats.ts';
 
 const esc = (s: string) => s.replace(/[&<>"]/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;' })[c]!);
 const f = (x: number, d: number) => (Number.isFinite(x) ? x.toFixed(d) : '–');
 
 async function chartPng(tally: DateTally[]): Promise<string> {
   const canvas = document.createElement('canvas');
-  canvas.width = 640; canvas.height = 240;
-  canvas.style.cssText = 'position:fixed;left:-10000px;width:640px;height:240px';
+  canvas.width = 900; canvas.height = 300;
+  canvas.style.cssText = 'position:fixed;left:-10000px;width:900px;height:300px';
   document.body.append(canvas);
-  const chart = renderCountsChart(canvas, tally);
-  chart.resize(640, 240);
+  const chart = renderCountsChart(canvas, tally, { theme: 'print' });
+  chart.resize(900, 300);
   const url = chart.toBase64Image('image/png', 1);
   chart.destroy();
   canvas.remove();
@@ -31,16 +32,16 @@ export async function buildReport(state: AppState, view: MapView, tally: DateTal
   const m = state.model;
   const rows = tally.flatMap((t) => t.rows).map((r) => `<tr><td>${esc(r.aoiName)}</td><td>${r.date}</td><td>${esc(r.className)}</td><td><b>${r.count}</b></td><td>${r.detectedCount}</td><td>${r.reviewedCount}</td><td>${f(r.interval.lower, 1)}–${f(r.interval.upper, 1)}</td><td>${f(r.areaHa, 2)}</td><td>${f(r.densityPerHa, 2)}</td><td>${f(r.coverage * 100, 0)} %</td><td>${f(r.gsdM, 2)}</td><td>${r.caveat ? esc(r.caveat.level) : '–'}</td></tr>`).join('');
   const comps = tally.length >= 2 ? compareDates(tally[0], tally[tally.length - 1], state.model?.sidecar.lowSun) : [];
-  const compRows = comps.map((c) => `<tr><td>${esc(c.aoiName)}</td><td>${esc(c.className)}</td><td>${c.before.count}</td><td>${c.after.count}</td><td>${c.change > 0 ? '+' : ''}${c.change}</td><td>${c.test ? f(c.test.pValue, 3) : '–'}</td><td>${c.weakReasons.length ? esc(c.weakReasons.join('; ')) : 'like for like'}</td></tr>`).join('');
+  const compRows = comps.map((c) => `<tr><td>${esc(c.aoiName)}</td><td>${esc(c.className)}</td><td>${c.before.count}</td><td>${c.after.count}</td><td>${c.change > 0 ? '+' : ''}${c.change}</td><td>${c.test ? esc(formatPValue(c.test.pValue)) : '–'}</td><td>${c.weakReasons.length ? esc(c.weakReasons.join('; ')) : 'like for like'}</td></tr>`).join('');
   const caveats = tally.flatMap((t) => [...t.caveats.map((c) => `<li>${t.dateIso} ${esc(c.className)}: ${esc(c.reason)}</li>`), t.upsampling ? `<li>${t.dateIso}: ${esc(t.upsampling)}</li>` : '', ...t.lowSun.map((n) => `<li>${t.dateIso} ${esc(n.className)}: ${esc(n.text)}</li>`)]).join('');
   const ap = m?.sidecar.quality?.ap50;
   const metrics = ap ? Object.entries(ap).map(([k, v]) => `${esc(k)} AP@0.5 ${f(v, 2)}`).join(', ') : 'no measured metrics in the sidecar';
   return `<!doctype html><html lang="en"><head><meta charset="utf-8"><title>seamtally report</title>
 <style>@page{size:A4;margin:10mm}body{font:9.5px/1.3 system-ui,sans-serif;color:#111;margin:0}h1{font-size:15px;margin:0 0 2px}h2{font-size:11px;margin:6px 0 2px}
-table{border-collapse:collapse;width:100%}td,th{border-bottom:1px solid #ccc;padding:1px 3px;text-align:left}img{max-width:100%;max-height:85mm;object-fit:contain}
+table{border-collapse:collapse;width:100%}td,th{border-bottom:1px solid #ccc;padding:1px 3px;text-align:left}img{max-width:100%;object-fit:contain}.map img{width:100%;max-height:125mm}.chart img{width:100%;max-height:60mm}
 .two{display:flex;gap:8px}.two>*{flex:1}.caution{border:1px solid #b8860b;background:#fff8e1;padding:4px}.muted{color:#555}</style></head><body>
 <h1>seamtally — object counts by area</h1><div class="muted">Generated ${new Date().toISOString().slice(0, 16).replace('T', ' ')} UTC · score ≥ ${state.minScore.toFixed(2)} · ${state.scenes.length} scene(s): ${esc(state.scenes.map((s) => `${s.name} (${s.dateIso})`).join(', '))}</div>
-<div class="two"><div><h2>Map</h2><img alt="map" src="${mapPng}"></div><div><h2>Counts over dates</h2><img alt="chart" src="${chart}"></div></div>
+<div class="map"><h2>Map</h2><img alt="map" src="${mapPng}"></div><div class="chart"><h2>Counts over dates</h2><img alt="chart" src="${chart}"></div>
 <h2>Counts per area, date and class</h2><table><tr><th>Area</th><th>Date</th><th>Class</th><th>Count</th><th>Detected</th><th>Reviewed</th><th>95 % (Garwood)</th><th>ha</th><th>per ha</th><th>Imaged</th><th>GSD m</th><th>Resolution</th></tr>${rows}</table>
 ${compRows ? `<h2>Change ${tally[0].dateIso} → ${tally[tally.length - 1].dateIso}</h2><table><tr><th>Area</th><th>Class</th><th>Before</th><th>After</th><th>Change</th><th>p (exact conditional test)</th><th>Strength</th></tr>${compRows}</table>` : ''}
 <h2>Resolution caveats</h2><ul>${caveats || '<li>none</li>'}</ul>

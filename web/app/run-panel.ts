@@ -23,7 +23,8 @@ export function mountRunPanel(state: AppState, el: HTMLElement, runs: RunControl
     const p = state.progress;
     const busy = p.status === 'running' || p.status === 'merging';
     // Detect waits for the model and for scenes still opening (a click then would find no imagery)
-    go.disabled = busy || !state.model || state.opening > 0;
+    go.disabled = busy || !state.model || state.opening > 0 || state.scenes.length === 0;
+    go.title = state.scenes.length === 0 && state.opening === 0 ? 'Open a scene first (or the demo): there is nothing to run on yet.' : '';
     go.textContent = state.opening > 0 ? `Opening ${state.opening} scene${state.opening > 1 ? 's' : ''}…` : !state.model ? 'Loading detector…' : p.status === 'cancelled' ? 'Resume' : 'Detect';
     stop.disabled = !busy;
     const share = p.tilesTotal ? p.tilesDone / p.tilesTotal : 0;

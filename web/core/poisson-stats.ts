@@ -166,3 +166,9 @@ export function comparePoissonCounts(
     expectedCount1: n * p0,
   };
 }
+
+/** A p-value as the app, exports and the report print it: "< 0.001" below 0.001, else three decimals. */
+export function formatPValue(p: number): string {
+  if (!Number.isFinite(p)) return '–';
+  return p < 0.001 ? '< 0.001' : p.toFixed(3);
+}

@@ -91,3 +91,13 @@ describe('comparePoissonCounts (Przyborowski & Wilenski 1940 conditional test)',
     expect(b.pValue).toBeCloseTo(0.015625, 12);
   });
 });
+
+describe('formatPValue', () => {
+  it('prints "< 0.001" below 0.001 (as the app does), three decimals otherwise', async () => {
+    const { formatPValue } = await import('../../../web/core/poisson-stats.ts');
+    expect(formatPValue(0.0004)).toBe('< 0.001');
+    expect(formatPValue(0.001)).toBe('0.001');
+    expect(formatPValue(0.04567)).toBe('0.046');
+    expect(formatPValue(NaN)).toBe('–');
+  });
+});
