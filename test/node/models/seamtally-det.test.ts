@@ -24,6 +24,20 @@ describe('models/seamtally-det', () => {
     expect(statSync(ONNX).size).toBeLessThan(4 * 1024 * 1024);
   });
 
+  it('the quality curves are the real validation report at the shipped threshold (models/seamtally-det.real-eval.json)', () => {
+    // real_eval.py wrote both; a retrained model must rewrite both (npm run train does)
+    interface At { threshold: number; recall: number; precision: number }
+    const rep = JSON.parse(readFileSync('models/seamtally-det.real-eval.json', 'utf8')) as { sets: Record<string, { atThreshold: At }> };
+    const src: Record<string, string> = { vehicle: 'drone', solar_panel: 'roofs' };
+    for (const c of sc.classes) {
+      const rows = sc.quality!.gsdM.map((g) => rep.sets[`${src[c]}/${c}/${g}`].atThreshold);
+      for (const r of rows) expect(r.threshold).toBe(sc.minScore);
+      expect(sc.quality!.recall![c]).toEqual(rows.map((r) => r.recall));
+      expect(sc.quality!.precision![c]).toEqual(rows.map((r) => r.precision));
+    }
+    expect(sc.quality!.evalSet).toMatch(/real imagery never used in training/);
+  });
+
   it('loads in onnxruntime-node and gives the contract shapes for a 512 tile and a 384 tile', async () => {
     const s = await ort.InferenceSession.create(readFileSync(ONNX), { intraOpNumThreads: 1 });
     checkModelIO(sc, { inputNames: s.inputNames, outputNames: s.outputNames });
