@@ -200,7 +200,7 @@ def report(ev, thresholds):
     return out
 
 
-EVAL_SET = ("real imagery never used in training: vehicle from 24 drone frames of two held-out sequences "
+EVAL_SET = ("real imagery never used in training: vehicle from 12 drone frames of two held-out sequences "
             "(aerial-cars-drone DJI_0762 and DJI_0013, 236 motor vehicles, CC-BY-SA), degraded to each GSD and resampled "
             "to 0.3 m; solar_panel from 200 hand-labelled 0.2 m roof crops (SWISSIMAGE, (c) swisstopo; 2 km blocks held "
             "out; 316 arrays), the 0.15 m entry measured at their native 0.2 m. Matching: models/train/real/LABELS.md")
