@@ -52,6 +52,9 @@ test('the demo opens with the shipped model, runs, and matches seamtally detect 
   await page.waitForSelector('body[data-ready=true]', { timeout: 120_000 });
   await expect(page.locator('[data-testid=scene-list] li')).toHaveCount(manifest.scenes.length);
   await expect(page.locator('[data-testid=model-info]')).toContainText('shipped');
+  // two dates open: the map shows the newest one alone until the analyst picks another or all dates
+  const newest = [...new Set(manifest.scenes.map((s) => s.date))].sort().at(-1)!;
+  await expect(page.locator('select[aria-label="Date shown on the map"]')).toHaveValue(newest);
   await page.screenshot({ path: 'test-results/demo-open.png' });
   const browser = await runDemo(page);
   await page.screenshot({ path: 'test-results/demo-run.png' });

@@ -71,6 +71,14 @@ async function main(): Promise<void> {
   mountReviewPanel(state, layout.tabs.check, { view, detections, layout });
   mountTakeawayPanel(state, layout.tabs.takeaway, { view, getTally: tallies.current, exportFails: config.faults?.exportFails ?? false });
   state.events.on('shown-date-changed', () => layers.showDate(state.shownDate));
+  // With scenes of several dates the map shows the newest date alone (both dates' boxes over one picture drown each
+  // other, and review would show boxes over the other date's tarmac) until the analyst picks another or all dates.
+  state.events.on('scenes-changed', () => {
+    if (state.shownDateChosen) return;
+    const dates = [...new Set(state.scenes.map((s) => s.dateIso))].sort();
+    const want = dates.length >= 2 ? dates[dates.length - 1] : null;
+    if (want !== state.shownDate) { state.shownDate = want; state.events.emit('shown-date-changed'); }
+  });
   // A scene opened elsewhere switches the map into its CRS: redraw areas and detections in the new projection.
   view.map.on('change:view', () => { aoiLayer.render(state.aois); detections.rebuild(); layout.map.dataset.projection = view.projectionCode(); });
 

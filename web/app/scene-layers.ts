@@ -9,6 +9,8 @@ import { pixelBoxToMapBox } from '../core/geotransform.ts';
 /** Keeps one layer per scene fingerprint; newer dates above older ones. */
 export class SceneLayers {
   private layers = new Map<string, { layer: ImageLayer<Static>; url: string }>();
+  /** The date shown (null: all), applied to layers added later too. */
+  private shownDate: string | null = null;
   constructor(private view: MapView) {}
 
   /** Add (or replace) the picture of `scene` from its preview. */
@@ -26,6 +28,7 @@ export class SceneLayers {
       properties: { fingerprint: scene.fingerprint, dateIso: scene.dateIso },
     });
     this.drop(scene.fingerprint);
+    layer.setVisible(this.shownDate === null || this.shownDate === scene.dateIso);
     this.layers.set(scene.fingerprint, { layer, url });
     this.view.scenes.getLayers().push(layer);
     this.order();
@@ -51,6 +54,7 @@ export class SceneLayers {
 
   /** Show only the scenes of `dateIso` (null: all). */
   showDate(dateIso: string | null): void {
+    this.shownDate = dateIso;
     for (const { layer } of this.layers.values()) layer.setVisible(dateIso === null || layer.get('dateIso') === dateIso);
   }
 

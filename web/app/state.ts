@@ -99,6 +99,8 @@ export interface AppState {
   selection: { dateIso: string; row: number } | null;
   /** Date whose scenes and detections the map shows (null = all). */
   shownDate: string | null;
+  /** True once the analyst picked the shown date; until then it follows the newest date (one date's boxes at a time). */
+  shownDateChosen: boolean;
   /** Per scene fingerprint, cores of tiles that failed in the last run (scene pixels): not imaged for coverage. */
   failedTilesPx: Map<string, PixelBox[]>;
 }
@@ -122,6 +124,7 @@ export function createAppState(store: WorkStore | null): AppState {
     reviewVersion: 0,
     selection: null,
     shownDate: null,
+    shownDateChosen: false,
     failedTilesPx: new Map(),
   };
 }

@@ -43,7 +43,7 @@ export function mountTallyPanel(state: AppState, el: HTMLElement, coverage: Cove
   state.events.on('threshold-changed', showThreshold);
   state.events.on('model-changed', showThreshold);
   const dateSel = h('select', { 'aria-label': 'Date shown on the map', onchange: () => {
-    state.shownDate = dateSel.value || null; state.events.emit('shown-date-changed');
+    state.shownDate = dateSel.value || null; state.shownDateChosen = true; state.events.emit('shown-date-changed');
   } });
   const table = h('div', { dataset: { testid: 'tally' } });
   const runNote = h('div');
