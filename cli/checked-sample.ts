@@ -8,6 +8,9 @@ import { createTransform, parseEpsgName } from '../web/core/crs.ts';
 import { designSample, type CountedPoint, type SampleDesign } from '../web/core/check-sample.ts';
 import { SeamtallyError } from '../web/core/errors.ts';
 import type { CountsJson } from '../web/core/export-csv.ts';
+import { countsUnderRule } from '../web/core/counts.ts';
+import { DEFAULT_MIN_SCORE } from '../web/core/model-contract.ts';
+import type { ReviewState } from '../web/core/types.ts';
 import { readText } from './detect.ts';
 
 export interface RunDir {
@@ -26,15 +29,14 @@ export function readRunDir(dir: string): RunDir {
   const counts = JSON.parse(readFileSync(join(dir, 'counts.json'), 'utf8')) as CountsJson;
   const frameEpsg = parseEpsgName(String(counts.frameCrs));
   const classes = [...new Set(counts.rows.map((r) => r.className))];
-  const minScore = counts.rows[0]?.minScore ?? 0.5;
-  const fc = JSON.parse(readFileSync(join(dir, 'detections.geojson'), 'utf8')) as { features: Array<{ geometry: { coordinates: number[][][] }; properties: { class: string; score: number; review?: string } }> };
+  const minScore = counts.rows[0]?.minScore ?? DEFAULT_MIN_SCORE;
+  const fc = JSON.parse(readFileSync(join(dir, 'detections.geojson'), 'utf8')) as { features: Array<{ geometry: { coordinates: number[][][] }; properties: { class: string; score: number; review?: ReviewState } }> };
   const toFrame = createTransform(4326, frameEpsg);
   const points: CountedPoint[] = [];
   for (const f of fc.features) {
     const p = f.properties;
     const classIdx = classes.indexOf(p.class);
-    // the counting rule: added always, rejected never, others at or above the threshold
-    if (classIdx < 0 || p.review === 'rejected' || (p.review !== 'added' && !(p.score >= minScore))) continue;
+    if (classIdx < 0 || !countsUnderRule(p.score, p.review ?? 'unreviewed', minScore)) continue;
     const ring = f.geometry.coordinates[0].slice(0, -1).map((ll) => toFrame([ll[0], ll[1]]));
     points.push({ xM: ring.reduce((a, q) => a + q[0], 0) / ring.length, yM: ring.reduce((a, q) => a + q[1], 0) / ring.length, classIdx });
   }

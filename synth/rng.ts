@@ -1,4 +1,5 @@
 // Deterministic hashing and seeded random numbers: every scene value is a pure function of (seed, coordinates).
+import { fnv1a32, mulberry32 } from '../web/core/seeded-random.ts';
 
 /** 32-bit integer hash of up to four integers (a murmur3-style finaliser over a running mix). */
 export function hash4(a: number, b: number, c = 0, d = 0): number {
@@ -15,25 +16,17 @@ export function hash4(a: number, b: number, c = 0, d = 0): number {
 }
 
 /** Hash of a string (FNV-1a), for mixing names and dates into seeds. */
-export function hashString(s: string): number {
-  let h = 0x811c9dc5;
-  for (let i = 0; i < s.length; i++) h = Math.imul(h ^ s.charCodeAt(i), 0x01000193);
-  return h >>> 0;
-}
+export const hashString = fnv1a32;
 
-/** A small seeded generator (mulberry32) with helpers for ranges and picks. */
+/** A small seeded generator (the core's mulberry32) with helpers for ranges and picks. */
 export class Rng {
-  private s: number;
+  private readonly gen: () => number;
   constructor(seed: number) {
-    this.s = seed >>> 0;
+    this.gen = mulberry32(seed);
   }
   /** Uniform in [0, 1). */
   next(): number {
-    this.s = (this.s + 0x6d2b79f5) >>> 0;
-    let t = this.s;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
+    return this.gen();
   }
   range(lo: number, hi: number): number {
     return lo + (hi - lo) * this.next();

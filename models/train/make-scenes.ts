@@ -11,17 +11,10 @@ import { join } from 'node:path';
 import { makeSceneParams, type BandLayout, type BitDepth, type SceneOptions } from '../../synth/scene-params.ts';
 import { writeScene } from '../../synth/write-scene.ts';
 import { fileSink, fileSpools } from '../../cli/file-sink.ts';
+import { mulberry32 } from '../../web/core/seeded-random.ts';
 
 /** Small deterministic PRNG (mulberry32) so every set is reproducible. */
-function prng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = Math.imul(a ^ (a >>> 15), a | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+const prng = mulberry32;
 
 const LAYOUTS: BandLayout[] = ['rgb', 'rgbn', 'pan', '8'];
 const BITS: BitDepth[] = [8, 11, 12, 16];

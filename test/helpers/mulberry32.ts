@@ -1,11 +1,3 @@
-// mulberry32: a small seeded PRNG (public-domain algorithm), so randomised test cases are the same every run.
-export function mulberry32(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+// mulberry32: a small seeded PRNG (public-domain algorithm), so randomised test cases are the same every run; the
+// core's own (web/core/seeded-random.ts), re-exported for the tests.
+export { mulberry32 } from '../../web/core/seeded-random.ts';

@@ -10,7 +10,9 @@
 // "many" (above it); a stratum with fewer than 2 cells is merged into its neighbour. Allocation: Neyman
 // (n_h ∝ N_h · S_h, S_h the spread of detected counts + 1, so empty cells still get checks for misses), at least 2 per
 // stratum, at most N_h.
+import { clipPolygon, polygonArea } from './oriented-box.ts';
 import { prepareMultiPolygon, type MultiPolygonRings } from './point-in-polygon.ts';
+import { mulberry32 } from './seeded-random.ts';
 
 export const CELL_TARGET_OBJECTS = 20;
 export const STRATUM_NAMES = ['none', 'few', 'many'] as const;
@@ -39,57 +41,19 @@ export interface SampleDesign {
 /** A detection as the design needs it: centre in the frame and class index (already filtered by the counting rule). */
 export interface CountedPoint { xM: number; yM: number; classIdx: number }
 
-/** mulberry32 (public-domain PRNG): the same seed always draws the same cells. */
-function prng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = Math.imul(a ^ (a >>> 15), a | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
-
-/** Shoelace area of a closed or open ring. */
-function ringArea(r: readonly (readonly [number, number])[]): number {
-  let s = 0;
-  for (let i = 0; i < r.length; i++) {
-    const [x1, y1] = r[i];
-    const [x2, y2] = r[(i + 1) % r.length];
-    s += x1 * y2 - x2 * y1;
-  }
-  return Math.abs(s) / 2;
-}
-
-/** Sutherland–Hodgman clip of a ring by an axis-aligned box (convex clip window: exact for the area). */
-function clipRing(ring: readonly (readonly [number, number])[], x0: number, y0: number, x1: number, y1: number): [number, number][] {
-  let pts = ring.map((p) => [p[0], p[1]] as [number, number]);
-  const edges: Array<[(p: [number, number]) => boolean, (a: [number, number], b: [number, number]) => [number, number]]> = [
-    [(p) => p[0] >= x0, (a, b) => [x0, a[1] + ((b[1] - a[1]) * (x0 - a[0])) / (b[0] - a[0])]],
-    [(p) => p[0] <= x1, (a, b) => [x1, a[1] + ((b[1] - a[1]) * (x1 - a[0])) / (b[0] - a[0])]],
-    [(p) => p[1] >= y0, (a, b) => [a[0] + ((b[0] - a[0]) * (y0 - a[1])) / (b[1] - a[1]), y0]],
-    [(p) => p[1] <= y1, (a, b) => [a[0] + ((b[0] - a[0]) * (y1 - a[1])) / (b[1] - a[1]), y1]],
-  ];
-  for (const [inside, cut] of edges) {
-    const out: [number, number][] = [];
-    for (let i = 0; i < pts.length; i++) {
-      const cur = pts[i];
-      const prev = pts[(i + pts.length - 1) % pts.length];
-      if (inside(cur)) {
-        if (!inside(prev)) out.push(cut(prev, cur));
-        out.push(cur);
-      } else if (inside(prev)) out.push(cut(prev, cur));
-    }
-    pts = out;
-    if (pts.length === 0) break;
-  }
-  return pts;
+/** A ring as oriented-box.ts's flat polygon (closing vertex dropped). */
+function flat(ring: readonly (readonly [number, number])[]): number[] {
+  const n = ring.length > 1 && ring[0][0] === ring[ring.length - 1][0] && ring[0][1] === ring[ring.length - 1][1] ? ring.length - 1 : ring.length;
+  const out: number[] = [];
+  for (let i = 0; i < n; i++) out.push(ring[i][0], ring[i][1]);
+  return out;
 }
 
 /** Area of the AOI (exterior rings minus holes) inside a box. */
 export function areaInBox(polygons: MultiPolygonRings, x0: number, y0: number, x1: number, y1: number): number {
+  const box = [x0, y0, x1, y0, x1, y1, x0, y1]; // counter-clockwise, convex: the clip window
   let a = 0;
-  for (const poly of polygons) poly.forEach((ring, k) => { const c = ringArea(clipRing(ring, x0, y0, x1, y1)); a += k === 0 ? c : -c; });
+  for (const poly of polygons) poly.forEach((ring, k) => { const c = polygonArea(clipPolygon(flat(ring), box)); a += k === 0 ? c : -c; });
   return Math.max(0, a);
 }
 
@@ -113,7 +77,7 @@ export function designSample(polygons: MultiPolygonRings, points: readonly Count
   const mp = prepareMultiPolygon(polygons);
   const { minX, minY, maxX, maxY } = mp.bbox;
   let areaM2 = 0;
-  for (const poly of polygons) poly.forEach((ring, k) => { areaM2 += k === 0 ? ringArea(ring) : -ringArea(ring); });
+  for (const poly of polygons) poly.forEach((ring, k) => { areaM2 += (k === 0 ? 1 : -1) * polygonArea(flat(ring)); });
   const inAoi = points.filter((p) => mp.contains(p.xM, p.yM));
   const side = opts.cellSizeM ?? cellSizeFor(areaM2, inAoi.length);
   const gx0 = Math.floor(minX / side) * side;
@@ -165,7 +129,7 @@ export function designSample(polygons: MultiPolygonRings, points: readonly Count
   const weight = members.map((m, h) => m.length * spread[h]);
   const wSum = weight.reduce((a, b) => a + b, 0);
   const alloc = members.map((m, h) => Math.min(m.length, Math.max(2, Math.round((n * weight[h]) / wSum))));
-  const rnd = prng(opts.seed);
+  const rnd = mulberry32(opts.seed);
   const sample: string[] = [];
   members.forEach((m, h) => {
     const idx = m.map((c) => c.id);
@@ -176,10 +140,4 @@ export function designSample(polygons: MultiPolygonRings, points: readonly Count
     }
   });
   return { seed: opts.seed, cellSizeM: side, cells, strata: names, sample };
-}
-
-/** Cell that holds a point under the half-open rule, or undefined (for counting added objects into cells). */
-export function cellOf(design: SampleDesign, xM: number, yM: number): SampleCell | undefined {
-  const side = design.cellSizeM;
-  return design.cells.find((c) => xM >= c.x0M && xM < c.x0M + side && yM >= c.y0M && yM < c.y0M + side);
 }

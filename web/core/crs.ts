@@ -4,6 +4,7 @@
 import proj4 from 'proj4';
 import { SeamtallyError } from './errors.ts';
 import { EPSG_NEEDS_GRID, EPSG_PROJ4 } from './epsg-registry.generated.ts';
+import { fnv1a32 } from './seeded-random.ts';
 import type { LonLatDeg, MapXY } from './types.ts';
 
 /** Extra CRS definitions supplied by the user or built from a file's GeoKeys: code → proj4 string or WKT. */
@@ -19,9 +20,7 @@ const fileDefinitions = new Map<number, string>();
 
 /** The code under which a CRS defined by a file (proj4 string) is known; the same definition always gets the same code. */
 export function defineFileCrs(proj4Def: string): number {
-  let h = 0x811c9dc5; // FNV-1a, 32 bit
-  for (let i = 0; i < proj4Def.length; i++) h = Math.imul(h ^ proj4Def.charCodeAt(i), 0x01000193) >>> 0;
-  const code = FILE_CRS_BASE + (h % 8_000_000);
+  const code = FILE_CRS_BASE + (fnv1a32(proj4Def) % 8_000_000);
   fileDefinitions.set(code, proj4Def);
   return code;
 }

@@ -3,20 +3,7 @@
 // the test builds such files with GDAL and checks the result against gdaltransform).
 import { SeamtallyError } from './errors.ts';
 import { EPSG_PROJ4 } from './epsg-registry.generated.ts';
-import type { GeoKeyValues } from './geokeys.ts';
-
-/** GeoKey ids of the projection parameters (GeoTIFF 1.0 §6.2.3), merged into geokeys.ts's name table. */
-export const PROJECTION_KEY_NAMES: Readonly<Record<number, string>> = {
-  2051: 'GeogPrimeMeridianGeoKey', 2056: 'GeogEllipsoidGeoKey', 2057: 'GeogSemiMajorAxisGeoKey',
-  2058: 'GeogSemiMinorAxisGeoKey', 2059: 'GeogInvFlatteningGeoKey', 2061: 'GeogPrimeMeridianLongGeoKey',
-  2062: 'GeogTOWGS84GeoKey', 3077: 'ProjLinearUnitSizeGeoKey', 3078: 'ProjStdParallel1GeoKey',
-  3079: 'ProjStdParallel2GeoKey', 3080: 'ProjNatOriginLongGeoKey', 3081: 'ProjNatOriginLatGeoKey',
-  3082: 'ProjFalseEastingGeoKey', 3083: 'ProjFalseNorthingGeoKey', 3084: 'ProjFalseOriginLongGeoKey',
-  3085: 'ProjFalseOriginLatGeoKey', 3086: 'ProjFalseOriginEastingGeoKey', 3087: 'ProjFalseOriginNorthingGeoKey',
-  3088: 'ProjCenterLongGeoKey', 3089: 'ProjCenterLatGeoKey', 3090: 'ProjCenterEastingGeoKey',
-  3091: 'ProjCenterNorthingGeoKey', 3092: 'ProjScaleAtNatOriginGeoKey', 3093: 'ProjScaleAtCenterGeoKey',
-  3094: 'ProjAzimuthAngleGeoKey', 3095: 'ProjStraightVertPoleLongGeoKey',
-};
+import { keyNumber as num, type GeoKeyValues } from './geokeys.ts';
 
 /** EPSG ellipsoid codes → proj4 ellipsoid names (EPSG registry; the common ones). */
 const ELLIPSOIDS: Readonly<Record<number, string>> = {
@@ -28,12 +15,6 @@ const WGS84_LIKE_DATUMS = new Set([6326, 6258, 6269, 6283, 7844, 6167]);
 
 const USER_DEFINED = 32767;
 
-function num(keys: GeoKeyValues, name: string): number | undefined {
-  const v = keys[name];
-  if (typeof v === 'number') return v;
-  if (v && typeof v === 'object' && 'length' in v && v.length > 0 && typeof v[0] === 'number') return v[0];
-  return undefined;
-}
 
 /** The +datum / +ellps / +towgs84 part of the definition from the geographic keys. */
 function geodeticPart(keys: GeoKeyValues): string {

@@ -1,7 +1,7 @@
 // GeoKey directory (GeoTIFF 1.1, OGC 19-008r4) → EPSG code, geographic or projected, raster type.
 import { SeamtallyError } from './errors.ts';
 import { defineFileCrs } from './crs.ts';
-import { PROJECTION_KEY_NAMES, userDefinedProjection } from './geokeys-projection.ts';
+import { userDefinedProjection } from './geokeys-projection.ts';
 
 /** How a pixel's tiepoint relates to the pixel: its corner (area) or its centre (point). GeoTIFF §7.1.2. */
 export type RasterType = 'PixelIsArea' | 'PixelIsPoint';
@@ -30,7 +30,16 @@ export const GEO_KEY_NAMES: Readonly<Record<number, string>> = {
   3075: 'ProjCoordTransGeoKey',
   3076: 'ProjLinearUnitsGeoKey',
   4096: 'VerticalCSTypeGeoKey',
-  ...PROJECTION_KEY_NAMES,
+  // the parameters of a projection a file defines itself (GeoTIFF 1.0 §6.2.3; geokeys-projection.ts reads them)
+  2051: 'GeogPrimeMeridianGeoKey', 2056: 'GeogEllipsoidGeoKey', 2057: 'GeogSemiMajorAxisGeoKey',
+  2058: 'GeogSemiMinorAxisGeoKey', 2059: 'GeogInvFlatteningGeoKey', 2061: 'GeogPrimeMeridianLongGeoKey',
+  2062: 'GeogTOWGS84GeoKey', 3077: 'ProjLinearUnitSizeGeoKey', 3078: 'ProjStdParallel1GeoKey',
+  3079: 'ProjStdParallel2GeoKey', 3080: 'ProjNatOriginLongGeoKey', 3081: 'ProjNatOriginLatGeoKey',
+  3082: 'ProjFalseEastingGeoKey', 3083: 'ProjFalseNorthingGeoKey', 3084: 'ProjFalseOriginLongGeoKey',
+  3085: 'ProjFalseOriginLatGeoKey', 3086: 'ProjFalseOriginEastingGeoKey', 3087: 'ProjFalseOriginNorthingGeoKey',
+  3088: 'ProjCenterLongGeoKey', 3089: 'ProjCenterLatGeoKey', 3090: 'ProjCenterEastingGeoKey',
+  3091: 'ProjCenterNorthingGeoKey', 3092: 'ProjScaleAtNatOriginGeoKey', 3093: 'ProjScaleAtCenterGeoKey',
+  3094: 'ProjAzimuthAngleGeoKey', 3095: 'ProjStraightVertPoleLongGeoKey',
 };
 
 const USER_DEFINED = 32767;
@@ -71,7 +80,8 @@ export function decodeGeoKeyDirectory(
   return out;
 }
 
-function keyNumber(keys: GeoKeyValues, name: string): number | undefined {
+/** A GeoKey's number (the first, when the key holds an array). */
+export function keyNumber(keys: GeoKeyValues, name: string): number | undefined {
   const v = keys[name];
   if (typeof v === 'number') return v;
   if (v && typeof v === 'object' && 'length' in v && v.length > 0 && typeof v[0] === 'number') return v[0];
