@@ -6,7 +6,7 @@ import { join } from 'node:path';
 import { parseArgs } from 'node:util';
 import { SeamtallyError } from '../web/core/errors.ts';
 import { countsToCsv, type CountsJson } from '../web/core/export-csv.ts';
-import { stratifiedEstimate, type CheckedCell } from '../web/core/stratified-estimate.ts';
+import { estimatesForDesign, sampleProgress, type CellTally } from '../web/core/sample-estimate.ts';
 import type { CountRow } from '../web/core/counts.ts';
 import { readText, writeAtomic } from './detect.ts';
 import { designFor, readAois, readRunDir } from './checked-sample.ts';
@@ -47,24 +47,20 @@ export async function run(argv: string[]): Promise<number> {
       const same = c && runDir.classes.every((k, i) => (f.properties.detected?.[k] ?? 0) === c.detected[i]);
       if (!same) throw new SeamtallyError('bad-argument', `Cell ${f.properties.id} of AOI "${aoi.name}" does not match the run in "${v.run}" (seed ${seed}): the run or the AOI changed since the sample was drawn. Draw the sample again with seamtally sample on this run.`);
     }
+    // detector counts from the design (the run's counted detections), truths from the file
+    const tallies = new Map<string, CellTally>(design.cells.map((c) => [c.id, { detected: c.detected }]));
+    for (const f of checked) {
+      const cell = tallies.get(f.properties.id)!;
+      cell.truth = runDir.classes.map((k) => Number(f.properties.trueCounts![k] ?? 0));
+      const acc = f.properties.accepted;
+      cell.truePositives = acc && runDir.classes.every((k) => acc[k] !== undefined) ? runDir.classes.map((k) => Number(acc[k])) : null;
+    }
+    const progress = sampleProgress(design, new Set(checked.map((f) => f.properties.id)));
+    if (!progress.ready) throw new SeamtallyError('bad-argument', `AOI "${aoi.name}": ${progress.cellsChecked} of ${progress.cellsInSample} sample cells are checked, and some stratum has fewer than 2; check at least 2 cells in every stratum for an estimate with an interval.`);
+    const estimates = estimatesForDesign(design, tallies, runDir.classes.length);
     runDir.classes.forEach((cls, k) => {
-      const strata = design.strata.map((_, h) => {
-        const cs = design.cells.filter((c) => c.stratum === h);
-        return { cells: cs.length, detected: cs.reduce((a, c) => a + c.detected[k], 0) };
-      });
-      const cells: CheckedCell[] = checked.map((f) => {
-        const c = byId.get(f.properties.id)!;
-        const truth = Number(f.properties.trueCounts![cls] ?? 0);
-        const acc = f.properties.accepted?.[cls];
-        return { stratum: c.stratum, detected: c.detected[k], truth, truePositives: acc === undefined ? Math.min(truth, c.detected[k]) : Number(acc) };
-      });
-      let estimate;
-      try { estimate = stratifiedEstimate(strata, cells); } catch (err) {
-        throw new SeamtallyError('bad-argument', `AOI "${aoi.name}": ${(err as Error).message}`);
-      }
-      // without per-class "accepted" counts, precision and recall cannot be told apart from the counts alone
-      if (!checked.every((f) => f.properties.accepted?.[cls] !== undefined)) { estimate.precision = null; estimate.recall = null; }
-      for (const r of rows) if (r.aoiId === aoi.id && r.className === cls) r.estimate = estimate;
+      const estimate = estimates[k];
+      if (estimate) for (const r of rows) if (r.aoiId === aoi.id && r.className === cls) r.estimate = estimate;
     });
   }
   mkdirSync(v.out, { recursive: true });

@@ -31,6 +31,9 @@ export interface SampleCell {
 export interface SampleDesign {
   seed: number;
   cellSizeM: number;
+  /** Grid origin in the frame (cell "ix,iy" spans originXM + ix·cellSizeM … + cellSizeM, half-open). */
+  originXM: number;
+  originYM: number;
   cells: SampleCell[];
   /** Stratum names (index = SampleCell.stratum) after merging. */
   strata: string[];
@@ -55,6 +58,11 @@ export function areaInBox(polygons: MultiPolygonRings, x0: number, y0: number, x
   let a = 0;
   for (const poly of polygons) poly.forEach((ring, k) => { const c = polygonArea(clipPolygon(flat(ring), box)); a += k === 0 ? c : -c; });
   return Math.max(0, a);
+}
+
+/** Id ("ix,iy") of the grid cell holding a point, half-open on both axes (the AOI test is the caller's). */
+export function cellIdAt(grid: Pick<SampleDesign, 'cellSizeM' | 'originXM' | 'originYM'>, xM: number, yM: number): string {
+  return `${Math.floor((xM - grid.originXM) / grid.cellSizeM)},${Math.floor((yM - grid.originYM) / grid.cellSizeM)}`;
 }
 
 /** Cell side for an AOI of `areaM2` holding `detectedTotal` objects. */
@@ -96,8 +104,9 @@ export function designSample(polygons: MultiPolygonRings, points: readonly Count
       byKey.set(c.id, c);
     }
   }
+  const grid = { cellSizeM: side, originXM: gx0, originYM: gy0 };
   for (const p of inAoi) {
-    const c = byKey.get(`${Math.floor((p.xM - gx0) / side)},${Math.floor((p.yM - gy0) / side)}`);
+    const c = byKey.get(cellIdAt(grid, p.xM, p.yM));
     if (c) c.detected[p.classIdx]++;
   }
   // strata by the total detected count
@@ -139,5 +148,5 @@ export function designSample(polygons: MultiPolygonRings, points: readonly Count
       sample.push(idx[i]);
     }
   });
-  return { seed: opts.seed, cellSizeM: side, cells, strata: names, sample };
+  return { seed: opts.seed, cellSizeM: side, originXM: gx0, originYM: gy0, cells, strata: names, sample };
 }
