@@ -1,9 +1,11 @@
 // Comparing dates: per AOI and class, two dates' counts, change, % change, the exact conditional test with the
-// imaged areas as exposure, and why a comparison is weak (GSD, coverage or recall differ).
+// imaged areas as exposure, why a comparison is weak (GSD, coverage or recall differ), and, where both dates have a
+// checked sample, the change of the estimated true counts with its interval (core/sample-estimate.ts).
 import type { DateTally, TallyRow } from './tally.ts';
 import { comparePoissonCounts, type PoissonComparison } from '../core/poisson-stats.ts';
 import type { LowSunEffect } from '../core/model-contract.ts';
 import { sunDiffers } from '../core/sun-height.ts';
+import { estimateChange, type EstimateChange } from '../core/sample-estimate.ts';
 
 /** Relative GSD difference above which a comparison is flagged (common practice, no source). */
 const GSD_RATIO_LIMIT = 1.25;
@@ -21,6 +23,10 @@ export interface Comparison {
   changePct: number | null;
   test: PoissonComparison | null;
   weakReasons: string[];
+  /** The change of the estimated true counts when both dates have a checked sample (else null). */
+  estimated: EstimateChange | null;
+  /** What the comparison rests on: both dates' estimates, or the detector counts alone. */
+  basis: 'estimates' | 'detector counts';
 }
 
 /** Compare every AOI × class between the tallies of two dates (lowSun: the model's measured low-sun effect). */
@@ -50,8 +56,10 @@ export function compareDates(a: DateTally, b: DateTally, lowSun?: LowSunEffect):
       ? comparePoissonCounts(after.count, after.imagedAreaHa, before.count, before.imagedAreaHa) : null;
     const pending = Number.isNaN(before.coverage) || Number.isNaN(after.coverage);
     if (!test) weakReasons.push(pending ? 'imaged share still being measured' : 'the area was not imaged on one date');
+    const estimated = before.estimate && after.estimate ? estimateChange(before.estimate, after.estimate) : null;
     out.push({ aoiName: before.aoiName, className: before.className, before, after, change,
-      changePct: before.count > 0 ? (100 * change) / before.count : null, test, weakReasons });
+      changePct: before.count > 0 ? (100 * change) / before.count : null, test, weakReasons,
+      estimated, basis: estimated ? 'estimates' : 'detector counts' });
   }
   return out;
 }

@@ -11,6 +11,7 @@ export interface AppEvents {
   'selection-changed': void;
   'shown-date-changed': void;
   'coverage-changed': void;
+  'samples-changed': void;
   'notice': { level: 'error' | 'info'; text: string };
 }
 

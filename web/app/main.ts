@@ -8,6 +8,7 @@ import { createMapView } from './map-view.ts';
 import { SceneLayers } from './scene-layers.ts';
 import { AoiLayer } from './aoi-layer.ts';
 import { DetectionsLayer } from './detections-layer.ts';
+import { SampleLayer } from './sample-layer.ts';
 import { DetectorPool } from './worker-pool.ts';
 import { RunController } from './run-controller.ts';
 import { spawnTally } from '../../workers/spawn.ts';
@@ -53,6 +54,7 @@ async function main(): Promise<void> {
     edited: (id, polys) => { void editArea(state, id, polys); },
   });
   const detections = new DetectionsLayer(view, state, tally.api);
+  const sampleLayer = new SampleLayer(view);
   const runs = new RunController(state, { pool, tally: tally.api }, { paceMs: config.paceMs });
 
   const useModel = async (m: ModelEntry) => {
@@ -68,7 +70,7 @@ async function main(): Promise<void> {
   mountRunPanel(state, layout.run, runs, pool);
   const tallies = mountTallyPanel(state, layout.tabs.tally, new CoverageService(state, tally.api));
   mountComparePanel(state, layout.tabs.compare, tallies.current);
-  mountReviewPanel(state, layout.tabs.check, { view, detections, layout });
+  mountReviewPanel(state, layout.tabs.check, { view, detections, layout, samples: sampleLayer, getTally: tallies.current });
   mountTakeawayPanel(state, layout.tabs.takeaway, { view, getTally: tallies.current, exportFails: config.faults?.exportFails ?? false });
   state.events.on('shown-date-changed', () => layers.showDate(state.shownDate));
   // With scenes of several dates the map shows the newest date alone (both dates' boxes over one picture drown each
@@ -79,8 +81,14 @@ async function main(): Promise<void> {
     const want = dates.length >= 2 ? dates[dates.length - 1] : null;
     if (want !== state.shownDate) { state.shownDate = want; state.events.emit('shown-date-changed'); }
   });
+  // where the map looks (for scripted checks that click on it): centre and resolution in the view projection
+  view.map.on('moveend', () => {
+    const v = view.map.getView();
+    layout.map.dataset.center = (v.getCenter() ?? []).join(',');
+    layout.map.dataset.resolution = String(v.getResolution() ?? '');
+  });
   // A scene opened elsewhere switches the map into its CRS: redraw areas and detections in the new projection.
-  view.map.on('change:view', () => { aoiLayer.render(state.aois); detections.rebuild(); layout.map.dataset.projection = view.projectionCode(); });
+  view.map.on('change:view', () => { aoiLayer.render(state.aois); detections.rebuild(); state.events.emit('samples-changed'); layout.map.dataset.projection = view.projectionCode(); });
 
   await restoreKeptWork(state);
   const demo = await fetchManifest(config.manifestUrl);

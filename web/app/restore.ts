@@ -1,4 +1,4 @@
-// After a reload: areas, review decisions and added boxes come back from IndexedDB; kept URL scenes reopen by
+// After a reload: areas, review decisions, added boxes and checked samples come back from IndexedDB; kept URL scenes reopen by
 // themselves, kept file scenes wait (listed) until the analyst drops the same files again (matched by fingerprint).
 import type { AppState, SceneEntry } from './state.ts';
 import { openScene, type SceneServices } from './scene-open.ts';
@@ -11,9 +11,11 @@ export async function restoreKeptWork(state: AppState): Promise<void> {
   state.aois = await store.allAois();
   state.review = new Map((await store.allReview()).map((r) => [r.key, r.state]));
   state.added = await store.allAdded();
+  state.samples = await store.allSamples();
   state.reviewVersion++;
   state.events.emit('aois-changed');
   state.events.emit('review-changed');
+  state.events.emit('samples-changed');
 }
 
 /** Reopen kept scenes that are not open yet. */

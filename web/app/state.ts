@@ -5,6 +5,7 @@ import type { Aoi } from '../core/aoi.ts';
 import { DEFAULT_MIN_SCORE, type ModelSidecar } from '../core/model-contract.ts';
 import type { SceneInput, SceneDescription } from '../../workers/contract.ts';
 import type { WorkStore } from './store.ts';
+import type { SampleDesign } from '../core/check-sample.ts';
 import { EventBus } from './events.ts';
 
 /** Where a scene's bytes come from, as kept (a File cannot be kept, so it is matched by fingerprint on reopen). */
@@ -43,6 +44,27 @@ export interface AddedBox {
   classIdx: number;
   ringLonLat: Array<[number, number]>;
   centreLonLat: [number, number];
+}
+
+/**
+ * A checked sample of one AOI on one date: the design drawn (cells in the date's metric frame, strata, seed) and the
+ * cells the analyst has marked checked. Truths come from the review decisions inside checked cells.
+ */
+export interface SampleRecord {
+  /** `${aoiId}|${dateIso}` */
+  key: string;
+  aoiId: string;
+  dateIso: string;
+  /** Metric frame of the run the sample was drawn on ("EPSG:n"); a sample drawn in another frame is not used. */
+  frameCrs: string;
+  /** The AOI's rings when the sample was drawn (JSON): an edited area makes the sample stale. */
+  aoiSignature: string;
+  /** Score threshold in force when the sample was drawn (its strata come from the detector counts at it). */
+  drawnAtScore: number;
+  design: SampleDesign;
+  /** Ids of the sample cells marked checked, in the order checked. */
+  checked: string[];
+  createdMs: number;
 }
 
 /** The detector in use: ONNX bytes plus its validated sidecar (kept as plain JSON). */
@@ -93,6 +115,8 @@ export interface AppState {
   results: DateDetections[];
   review: Map<string, ReviewState>;
   added: AddedBox[];
+  /** Checked samples, one per AOI and date at most. */
+  samples: SampleRecord[];
   /** Bumped on every change of `review` or `added` (memoised views of the results compare it). */
   reviewVersion: number;
   /** Currently selected detection (date + row of its reviewed table) for review. */
@@ -121,6 +145,7 @@ export function createAppState(store: WorkStore | null): AppState {
     results: [],
     review: new Map(),
     added: [],
+    samples: [],
     reviewVersion: 0,
     selection: null,
     shownDate: null,
@@ -144,6 +169,23 @@ export function setThreshold(state: AppState, minScore: number): void {
 /** True unless the scene's date is an unconfirmed suggestion. */
 export function isDateConfirmed(s: Pick<SceneRecord, 'dateConfirmed'>): boolean {
   return s.dateConfirmed !== false;
+}
+
+/** What an AOI's sample depends on: its rings. */
+export function aoiSignature(aoi: AoiRecord): string {
+  return JSON.stringify(aoi.polygonsLonLat);
+}
+
+/** The AOI's sample on a date that still fits the area and the date's run frame, or null. */
+export function liveSample(state: AppState, aoiId: string, dateIso: string, frameCrs: string): SampleRecord | null {
+  const s = state.samples.find((x) => x.key === sampleKey(aoiId, dateIso));
+  const aoi = state.aois.find((a) => a.id === aoiId);
+  return s && aoi && s.frameCrs === frameCrs && s.aoiSignature === aoiSignature(aoi) ? s : null;
+}
+
+/** Key of an AOI's sample on a date. */
+export function sampleKey(aoiId: string, dateIso: string): string {
+  return `${aoiId}|${dateIso}`;
 }
 
 export function scenesByDate(state: AppState): Array<{ dateIso: string; scenes: SceneEntry[] }> {

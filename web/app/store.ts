@@ -1,8 +1,9 @@
-// Work kept in IndexedDB (idb): areas, scenes (by fingerprint), runs with their finished tiles, review decisions.
+// Work kept in IndexedDB (idb): areas, scenes (by fingerprint), runs with their finished tiles, review decisions,
+// checked samples.
 import { openDB, type DBSchema, type IDBPDatabase } from 'idb';
 import type { ReviewState } from '../core/types.ts';
 import type { TileDetections } from '../../workers/contract.ts';
-import type { AoiRecord, SceneRecord, AddedBox } from './state.ts';
+import type { AoiRecord, SceneRecord, AddedBox, SampleRecord } from './state.ts';
 import { SeamtallyError } from '../core/errors.ts';
 
 /** A run as kept: its identity (what was asked) and how far it got. */
@@ -35,6 +36,7 @@ interface Schema extends DBSchema {
   tiles: { key: [string, string]; value: TileRecord; indexes: { byRun: string } };
   review: { key: string; value: ReviewRecord };
   added: { key: string; value: AddedBox };
+  samples: { key: string; value: SampleRecord };
 }
 
 /** Thin typed wrapper; every write reports a full disk as a plain sentence instead of failing silently. */
@@ -42,14 +44,18 @@ export class WorkStore {
   private constructor(private db: IDBPDatabase<Schema>) {}
 
   static async open(name = 'seamtally'): Promise<WorkStore> {
-    const db = await openDB<Schema>(name, 1, {
-      upgrade(d) {
-        d.createObjectStore('aois', { keyPath: 'id' });
-        d.createObjectStore('scenes', { keyPath: 'fingerprint' });
-        d.createObjectStore('runs', { keyPath: 'id' }).createIndex('byKey', 'key');
-        d.createObjectStore('tiles', { keyPath: ['runId', 'tileKey'] }).createIndex('byRun', 'runId');
-        d.createObjectStore('review', { keyPath: 'key' });
-        d.createObjectStore('added', { keyPath: 'id' });
+    // version 2 added the checked samples; a version-1 database keeps its stores and gains that one
+    const db = await openDB<Schema>(name, 2, {
+      upgrade(d, oldVersion) {
+        if (oldVersion < 1) {
+          d.createObjectStore('aois', { keyPath: 'id' });
+          d.createObjectStore('scenes', { keyPath: 'fingerprint' });
+          d.createObjectStore('runs', { keyPath: 'id' }).createIndex('byKey', 'key');
+          d.createObjectStore('tiles', { keyPath: ['runId', 'tileKey'] }).createIndex('byRun', 'runId');
+          d.createObjectStore('review', { keyPath: 'key' });
+          d.createObjectStore('added', { keyPath: 'id' });
+        }
+        if (oldVersion < 2) d.createObjectStore('samples', { keyPath: 'key' });
       },
     });
     return new WorkStore(db);
@@ -98,10 +104,14 @@ export class WorkStore {
   putAdded(a: AddedBox): Promise<string> { return this.guard(() => this.db.put('added', a)); }
   deleteAdded(id: string): Promise<void> { return this.db.delete('added', id); }
 
-  /** Forget runs, tiles and review (areas and scenes stay). */
+  allSamples(): Promise<SampleRecord[]> { return this.db.getAll('samples'); }
+  putSample(s: SampleRecord): Promise<string> { return this.guard(() => this.db.put('samples', s)); }
+  deleteSample(key: string): Promise<void> { return this.db.delete('samples', key); }
+
+  /** Forget runs, tiles, review and samples (areas and scenes stay). */
   async clearWork(): Promise<void> {
-    const tx = this.db.transaction(['runs', 'tiles', 'review', 'added'], 'readwrite');
+    const tx = this.db.transaction(['runs', 'tiles', 'review', 'added', 'samples'], 'readwrite');
     await Promise.all([tx.objectStore('runs').clear(), tx.objectStore('tiles').clear(),
-      tx.objectStore('review').clear(), tx.objectStore('added').clear(), tx.done]);
+      tx.objectStore('review').clear(), tx.objectStore('added').clear(), tx.objectStore('samples').clear(), tx.done]);
   }
 }

@@ -52,10 +52,10 @@ export function mountTakeawayPanel(state: AppState, el: HTMLElement, svc: Takeaw
     }) }, 'Printable report')),
     h('div.cautions', {}, h('b', {}, 'Before you share or act on these numbers'), h('ul', {}, ...cautionLines.map((c) => h('li', {}, c)))),
     h('div.row', {}, h('button.small', { onclick: guarded(async () => {
-      if (!confirm('Forget kept runs, detections and review decisions? Areas and scenes stay.')) return;
+      if (!confirm('Forget kept runs, detections, review decisions and checked samples? Areas and scenes stay.')) return;
       await state.store?.clearWork();
-      state.review.clear(); state.added = []; state.results = []; state.reviewVersion++;
-      state.events.emit('results-changed'); state.events.emit('review-changed');
+      state.review.clear(); state.added = []; state.results = []; state.samples = []; state.reviewVersion++;
+      state.events.emit('results-changed'); state.events.emit('review-changed'); state.events.emit('samples-changed');
     }) }, 'Forget kept work')),
   );
 }

@@ -1,7 +1,8 @@
 // The page's tally: per date, the core tally (core/tally.ts, the same function `seamtally detect` uses) of the reviewed
-// detections at the slider's threshold, with AOI areas and coverage (measured in the tally worker) filled in here.
+// detections at the slider's threshold, with AOI areas and coverage (measured in the tally worker) filled in here,
+// and each AOI's checked sample on the date (its estimate comes from the core tally too).
 import type { AppState, AoiRecord, SceneEntry } from './state.ts';
-import { isDateConfirmed, scenesByDate } from './state.ts';
+import { isDateConfirmed, liveSample, scenesByDate } from './state.ts';
 import { reviewedTable } from './date-table.ts';
 import type { CountAoi } from '../core/counts.ts';
 import { reprojectAoi, type AoiInCrs } from '../core/aoi.ts';
@@ -32,6 +33,10 @@ export function computeTally(state: AppState, coverage: CoverageService): DateTa
     const frameEpsg = parseEpsgName(d.table.frameCrs);
     const rt = reviewedTable(state, d);
     const aois = state.aois.map((a) => countAoi(a, frameEpsg, scenes, coverage));
-    return tallyDate({ detections: rt.table, review: rt.review, aois, dateIso: d.dateIso, scenes: scenes.map((s) => ({ name: s.name, georef: s.info.georef })), sidecar: model.sidecar, dateConfirmed: scenes.every(isDateConfirmed) }, state.minScore);
+    const samples = state.aois.flatMap((a) => {
+      const s = liveSample(state, a.id, d.dateIso, d.table.frameCrs);
+      return s ? [{ aoiId: a.id, design: s.design, checked: s.checked }] : [];
+    });
+    return tallyDate({ detections: rt.table, review: rt.review, aois, dateIso: d.dateIso, scenes: scenes.map((s) => ({ name: s.name, georef: s.info.georef })), sidecar: model.sidecar, dateConfirmed: scenes.every(isDateConfirmed), samples }, state.minScore);
   });
 }
