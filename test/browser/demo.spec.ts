@@ -12,7 +12,7 @@ const shipped: string[] = existsSync('models/index.json') ? JSON.parse(readFileS
   : existsSync('models') ? readdirSync('models').filter((f) => f.endsWith('.model.json')).sort() : [];
 const sidecar = shipped[0];
 
-interface Manifest { aois: string; scenes: Array<{ file: string; date: string }> }
+interface Manifest { aois: string; scenes: Array<{ file: string; date: string }>; truthCounts: Record<string, Record<string, Record<string, number>>> }
 
 test.beforeAll(() => {
   if (!sidecar) return;
@@ -61,6 +61,27 @@ test('the demo opens with the shipped model, runs, and matches seamtally detect 
   const expected = cliDemoCounts(manifest, join('models', sidecar!.replace(/\.model\.json$/, '.onnx')), 'default');
   expect(Object.values(expected).some((c) => c > 0)).toBe(true);
   expect(browser).toEqual(expected);
+  // the caveats' direction of error (from the sidecar's recall and precision on real imagery) against the demo's own
+  // measured error (its counts against the synthesizer's known objects, all areas of a date): a caveat that says
+  // over-count or miss must have the measured sign; "about right" (±5 %) must measure within ±10 % (the demo is
+  // invented imagery, not the real imagery the sidecar was measured on; self-consistency, no outside source)
+  const idByName = Object.fromEntries((JSON.parse(readFileSync(join(DEMO_DIR, manifest.aois), 'utf8')) as { features: Array<{ id: string; properties: { name: string } }> }).features.map((f) => [f.properties.name, f.id]));
+  for (const date of Object.keys(manifest.truthCounts)) {
+    const notes = (JSON.parse(readFileSync(join(DEMO_DIR, `cli-default-${date}`, 'counts.json'), 'utf8')) as { notes: { caveats: Array<{ className: string; expectedCountRatio: number | null }> } }).notes;
+    for (const c of notes.caveats) {
+      let counted = 0, known = 0;
+      for (const [k, n] of Object.entries(expected)) {
+        const [aoiName, d, cls] = k.split('|');
+        if (d === date && cls === c.className) { counted += n; known += manifest.truthCounts[date][idByName[aoiName]][cls]; }
+      }
+      if (known < 20 || c.expectedCountRatio === null) continue;
+      const measured = counted / known;
+      const say = `${date} ${c.className}: caveat ratio ${c.expectedCountRatio.toFixed(3)}, measured ${measured.toFixed(3)}`;
+      if (c.expectedCountRatio > 1.05) expect(measured, say).toBeGreaterThan(1);
+      else if (c.expectedCountRatio < 0.95) expect(measured, say).toBeLessThan(1);
+      else expect(Math.abs(measured - 1), say).toBeLessThanOrEqual(0.10);
+    }
+  }
   // each date's noon sun at the scenes' centre (gdalinfo puts the demo at 9.17° E, 48.03° N): 14 March, declination
   // about −2.6° (almanac, from memory) → 90 − |48.03 + 2.6| ≈ 39°; no low-sun note (the shipped line is 32°)
   await expect(page.locator('[data-testid=tally] tr.datehead').first()).toContainText(/sun at most (38|39|40)° \(noon\)/);

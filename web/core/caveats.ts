@@ -106,7 +106,7 @@ function cap(s: string): string { return s.charAt(0).toUpperCase() + s.slice(1);
 export function countDirection(ratio: number): string {
   if (ratio > 1.05) return `the detector tends to over-count here by about ${Math.round((ratio - 1) * 100)} %`;
   if (ratio < 0.95) return `the detector tends to miss about ${Math.round((1 - ratio) * 100)} % here`;
-  return 'misses and false detections about cancel here, so counts come out about right';
+  return 'misses and false detections about cancel here and counts come out about right';
 }
 
 /** A note when a scene is coarser than the model's GSD and is therefore upsampled; null otherwise. */
