@@ -17,7 +17,7 @@ import { COUNTING_RULE } from '../web/core/point-in-polygon.ts';
 import type { SceneSource } from '../web/core/scene-source.ts';
 import { mergeDetectionTables } from '../web/core/seam-merge.ts';
 import type { DetectionTable } from '../web/core/types.ts';
-import { readValidMask } from '../web/core/valid-mask.ts';
+import { assertSomeValidPixels, readValidMask } from '../web/core/valid-mask.ts';
 import { openGeoTiffPath } from '../web/io/geotiff-source.ts';
 import { openNodeModel } from '../web/io/ort-node.ts';
 
@@ -117,9 +117,7 @@ async function openScene(path: string): Promise<SceneSource> {
 async function coverageMask(src: SceneSource, frameEpsg: number): Promise<CoverageMask> {
   const info = src.info;
   const mask = await readValidMask(src);
-  if (!mask.validMask.some((v) => v !== 0)) {
-    throw new SeamtallyError('all-nodata', `"${info.name}" has no valid pixels (every pixel is the nodata value ${info.nodata}), so there is nothing to count: check that you picked the right scene, and its nodata value with gdalinfo.`, { name: info.name });
-  }
+  await assertSomeValidPixels(src, mask);
   return {
     frameToScenePx: frameToScenePxMapping(info.georef.geoTransform, info.georef.epsg, frameEpsg),
     sceneWidthPx: info.widthPx, sceneHeightPx: info.heightPx, ...mask,

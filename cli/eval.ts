@@ -4,7 +4,7 @@ import { existsSync, readFileSync, readdirSync, renameSync, statSync, writeFileS
 import { basename, join } from 'node:path';
 import { parseArgs } from 'node:util';
 import { createTransform } from '../web/core/crs.ts';
-import { normaliseAxisAngle } from '../web/core/decode-outputs.ts';
+import { mapOrientedBox } from '../web/core/box-mapping.ts';
 import { SeamtallyError } from '../web/core/errors.ts';
 import { classQuality, matchVoc, prCurve, relativeCountError, type ClassQuality, type EvalDetection, type EvalTruth } from '../web/core/eval-metrics.ts';
 import { pixelToMap } from '../web/core/geotransform.ts';
@@ -73,14 +73,9 @@ function readTruth(path: string, classes: string[], sceneIdx: number, sceneEpsg:
     const p = f.properties ?? {};
     const classIdx = classes.indexOf(String(p.class));
     if (classIdx < 0) continue;
-    const cx = Number(p.cxM), cy = Number(p.cyM), L = Number(p.lengthM), W = Number(p.widthM), a = Number(p.angleRad);
-    const c = toFrame([cx, cy]);
-    const e = toFrame([cx + Math.cos(a) * L / 2, cy + Math.sin(a) * L / 2]);
+    const box = mapOrientedBox((x, y) => toFrame([x, y]), Number(p.cxM), Number(p.cyM), Number(p.lengthM), Number(p.widthM), Number(p.angleRad));
     const vis = p.visibleFraction === undefined ? 1 : Number(p.visibleFraction);
-    out.push({
-      sceneIdx, classIdx, cxM: c[0], cyM: c[1], lengthM: 2 * Math.hypot(e[0] - c[0], e[1] - c[1]), widthM: W,
-      angleRad: normaliseAxisAngle(Math.atan2(e[1] - c[1], e[0] - c[0])), difficult: vis < difficultBelow,
-    });
+    out.push({ sceneIdx, classIdx, ...box, difficult: vis < difficultBelow });
   }
   return out;
 }

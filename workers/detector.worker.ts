@@ -2,14 +2,14 @@
 import { expose, transfer } from 'comlink';
 import { toErrorInfo, SeamtallyError, type Result } from '../web/core/errors.ts';
 import { crsDefinition } from '../web/core/crs.ts';
-import { readValidMask } from '../web/core/valid-mask.ts';
+import { assertSomeValidPixels, readValidMask } from '../web/core/valid-mask.ts';
 import { validateSidecar, checkModelIO, type ModelSidecar } from '../web/core/model-contract.ts';
 import { inferTile, readAndFillTile, type FilledTile, type InferFn, type ScenePipeline, type TileScratch } from '../web/core/pipeline.ts';
 import { modelLoadFailure } from '../web/core/model-load-failure.ts';
 import { createOrtModel, crashInferenceWorkerForTest, type OrtModel } from './ort-session.ts';
 import { openInput, SceneCache } from './scene-cache.ts';
 import { renderPreview } from './preview.ts';
-import { assertBandsKnown, assertSomeValidPixels } from './scene-checks.ts';
+import { assertBandsKnown } from './scene-checks.ts';
 import { tableBuffers } from './transfer.ts';
 import { ReadAhead } from './read-ahead.ts';
 import type { DetectorApi } from './contract.ts';

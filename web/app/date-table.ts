@@ -5,6 +5,7 @@ import { createDetectionTable, type DetectionTable, type ReviewState } from '../
 import { concatDetectionTables } from '../core/seam-merge.ts';
 import { createTransform, parseEpsgName } from '../core/crs.ts';
 import { detectionKey } from './detection-keys.ts';
+import { boxFromCorners } from '../core/box-mapping.ts';
 
 export interface ReviewedTable {
   dateIso: string;
@@ -21,13 +22,9 @@ function addedTable(frameCrs: string, boxes: AddedBox[]): DetectionTable {
   const fwd = createTransform(4326, parseEpsgName(frameCrs));
   boxes.forEach((b, i) => {
     const c = fwd(b.centreLonLat);
-    const p = b.ringLonLat.map((q) => fwd(q));
-    const e1 = Math.hypot(p[1][0] - p[0][0], p[1][1] - p[0][1]);
-    const e2 = Math.hypot(p[2][0] - p[1][0], p[2][1] - p[1][1]);
-    const long = e1 >= e2 ? [p[0], p[1]] : [p[1], p[2]];
+    const box = boxFromCorners(b.ringLonLat.slice(0, 4).map((q) => fwd(q)));
     t.cxM[i] = c[0]; t.cyM[i] = c[1];
-    t.lengthM[i] = Math.max(e1, e2); t.widthM[i] = Math.min(e1, e2);
-    t.angleRad[i] = Math.atan2(long[1][1] - long[0][1], long[1][0] - long[0][0]);
+    t.lengthM[i] = box.lengthM; t.widthM[i] = box.widthM; t.angleRad[i] = box.angleRad;
     t.score[i] = 1; t.classIdx[i] = b.classIdx; t.sceneIdx[i] = 0;
   });
   t.count = boxes.length;

@@ -1,7 +1,7 @@
 // One tile: read window → resample to the model GSD → normalise into a reused NCHW tensor → infer (injected) → decode →
 // keep core centres → metric ground frame; plus the run driver shared by the CLI and the browser workers.
 import { createTransform, epsgName, metricFrameEpsg, type UserCrsDefs } from './crs.ts';
-import { decodeOutputs, normaliseAxisAngle, type PixelDetections, type TensorLike } from './decode-outputs.ts';
+import { decodeOutputs, type PixelDetections, type TensorLike } from './decode-outputs.ts';
 import { SeamtallyError } from './errors.ts';
 import { pixelToMap } from './geotransform.ts';
 import { DEFAULT_MIN_SCORE, tileAlignPxOf, type ModelSidecar } from './model-contract.ts';
@@ -11,6 +11,8 @@ import { fillUnit, unitInsideRect } from './fill-unit.ts';
 import type { RasterWindow, SceneSource } from './scene-source.ts';
 import { keepCoreCentres } from './seam-merge.ts';
 import { chooseTilePx, inputSizePx, planTiles, type PlannedTile, type TilePlan, type TileSizeInput } from './tiling.ts';
+import { noValidPixelsError } from './valid-mask.ts';
+import { mapOrientedBox } from './box-mapping.ts';
 import { createDetectionTable, type DetectionTable } from './types.ts';
 
 /**
@@ -117,7 +119,7 @@ export async function prepareScene(source: SceneSource, sceneIdx: number, sideca
   const windows = await readStretchSample(source, opts.signal);
   // A whole level read and not one valid pixel: say so now (8-bit scenes get no percentile pass that would notice).
   if (windows.length === 1 && !hasValidSample(windows[0], new Set(bands.indices))) {
-    throw new SeamtallyError('all-nodata', `"${info.name}" has no valid pixels (every pixel is nodata), so there is nothing to count: check that you picked the right scene, and its nodata value with gdalinfo.`);
+    throw noValidPixelsError(info.name, info.nodata);
   }
   const sample = joinSamples(windows);
   const stretch = computeStretch(sample, bands, { significantBits: info.significantBits, ...opts.stretch });
@@ -222,16 +224,12 @@ export function toGroundFrame(p: ScenePipeline, dets: PixelDetections): Detectio
   const map = (xModel: number, yModel: number) => toFrame(pixelToMap(gt, xModel / s, yModel / s));
   const t = createDetectionTable(epsgName(p.frameEpsg), dets.count);
   for (let i = 0; i < dets.count; i++) {
-    const cx = dets.cxPx[i], cy = dets.cyPx[i], a = dets.angleRad[i];
-    const hl = dets.lengthPx[i] / 2, hw = dets.widthPx[i] / 2;
-    const c = map(cx, cy);
-    const pl = map(cx + Math.cos(a) * hl, cy + Math.sin(a) * hl);
-    const pw = map(cx - Math.sin(a) * hw, cy + Math.cos(a) * hw);
-    t.cxM[i] = c[0];
-    t.cyM[i] = c[1];
-    t.lengthM[i] = 2 * Math.hypot(pl[0] - c[0], pl[1] - c[1]);
-    t.widthM[i] = 2 * Math.hypot(pw[0] - c[0], pw[1] - c[1]);
-    t.angleRad[i] = normaliseAxisAngle(Math.atan2(pl[1] - c[1], pl[0] - c[0]));
+    const b = mapOrientedBox(map, dets.cxPx[i], dets.cyPx[i], dets.lengthPx[i], dets.widthPx[i], dets.angleRad[i]);
+    t.cxM[i] = b.cxM;
+    t.cyM[i] = b.cyM;
+    t.lengthM[i] = b.lengthM;
+    t.widthM[i] = b.widthM;
+    t.angleRad[i] = b.angleRad;
     t.score[i] = dets.score[i];
     t.classIdx[i] = dets.classIdx[i];
     t.sceneIdx[i] = p.sceneIdx;

@@ -2,6 +2,7 @@
 // overview (one stretch per scene, never per tile, so all tiles look alike), and mapping into the model's input range.
 import { SeamtallyError } from './errors.ts';
 import { pickOverviewLevel, type RasterWindow, type SampleArray, type SceneSource } from './scene-source.ts';
+import { noValidPixelsError } from './valid-mask.ts';
 
 /** Which scene bands feed the model's R, G, B channels (0-based). Panchromatic = one band replicated. */
 export interface BandSelection {
@@ -129,7 +130,7 @@ export function percentiles(arrays: readonly SampleArray[], nodata: number | nul
       vals[k++] = v;
     }
   }
-  if (k === 0) throw new SeamtallyError('all-nodata', 'This scene has no valid pixels (everything is nodata), so there is nothing to detect: check that you picked the right scene, and its nodata value with gdalinfo.');
+  if (k === 0) throw noValidPixelsError(null, nodata);
   const s = vals.subarray(0, k).sort();
   const rank = (p: number) => s[Math.min(k - 1, Math.max(0, Math.ceil((p / 100) * k) - 1))];
   return [rank(lowPct), rank(highPct)];
