@@ -54,7 +54,7 @@ describe('seamtally sample', () => {
         for (let i = 0; i + 1 < ring.length; i++) s += ring[i][0] * ring[i + 1][1] - ring[i + 1][0] * ring[i][1];
         area += (k === 0 ? 1 : -1) * Math.abs(s) / 2;
       });
-      expect(Math.abs(design.cells.reduce((s, c) => s + c.areaM2, 0) / area - 1)).toBeLessThan(1e-9);
+      expect(Math.abs(design.cells.reduce((s, c) => s + c.areaM2, 0) / area - 1)).toBeLessThan(1e-7); // clipping at UTM coordinates (~5e6 m) leaves ~1e-8 of float error over ~50 cells
       const inCells = design.cells.reduce((s, c) => s + c.detected.reduce((x, y) => x + y, 0), 0);
       const counted = run.counts.rows.filter((r) => r.aoiId === aoi.id).reduce((s, r) => s + r.count, 0);
       expect(inCells).toBe(counted);
