@@ -1,7 +1,8 @@
 // The one-page printable report: map snapshot, counts table, chart, caveats, counting rule, model and its card
 // metrics, and the cautions, as one self-contained HTML document (no outside resources).
 import type { AppState } from './state.ts';
-import type { DateTally, TallyRow } from './tally.ts';
+import type { DateTally } from './tally.ts';
+import { TALLY_COLUMNS } from '../core/tally-columns.ts';
 import type { MapView } from './map-view.ts';
 import { mapSnapshot } from './map-snapshot.ts';
 import { renderCountsChart } from './counts-chart.ts';
@@ -27,17 +28,13 @@ async function chartPng(tally: DateTally[]): Promise<string> {
   return url;
 }
 
-/** The estimated true count of a row with its interval and checked cells, or how far its sample is. */
-function estimateText(r: TallyRow): string {
-  if (r.estimate) return `<b>${f(r.estimate.count, 1)}</b> (${f(r.estimate.ci95[0], 1)}–${f(r.estimate.ci95[1], 1)}; ${r.estimate.cellsChecked} cells)`;
-  return r.sample ? `${r.sample.cellsChecked}/${r.sample.cellsInSample} cells checked` : 'no sample';
-}
-
 /** Build the report HTML for the current state. */
 export async function buildReport(state: AppState, view: MapView, tally: DateTally[]): Promise<string> {
   const [mapPng, chart] = await Promise.all([mapSnapshot(view), chartPng(tally)]);
   const m = state.model;
-  const rows = tally.flatMap((t) => t.rows).map((r) => `<tr><td>${esc(r.aoiName)}</td><td>${r.date}</td><td>${esc(r.className)}</td><td><b>${r.count}</b></td><td>${r.detectedCount}</td><td>${r.reviewedCount}</td><td>${f(r.interval.lower, 1)}–${f(r.interval.upper, 1)}</td><td>${estimateText(r)}</td><td>${f(r.areaHa, 2)}</td><td>${f(r.densityPerHa, 2)}</td><td>${f(r.coverage * 100, 0)} %</td><td>${f(r.gsdM, 2)}</td><td>${r.caveat ? esc(r.caveat.level) : '–'}</td></tr>`).join('');
+  // the counts table from the one column list (core/tally-columns.ts), as the page's table and the CSV
+  const cols = TALLY_COLUMNS.filter((c) => c.inReport);
+  const rows = tally.flatMap((t) => t.rows).map((r) => `<tr>${cols.map((c) => `<td>${c.id === 'count' ? `<b>${esc(c.text(r))}</b>` : esc(c.text(r))}</td>`).join('')}</tr>`).join('');
   const comps = tally.length >= 2 ? compareDates(tally[0], tally[tally.length - 1], state.model?.sidecar.lowSun) : [];
   const compRows = comps.map((c) => `<tr><td>${esc(c.aoiName)}</td><td>${esc(c.className)}</td><td>${c.before.count}</td><td>${c.after.count}</td><td>${c.change > 0 ? '+' : ''}${c.change}</td><td>${c.test ? esc(formatPValue(c.test.pValue)) : '–'}</td><td>${c.estimated ? `${c.estimated.change > 0 ? '+' : ''}${f(c.estimated.change, 1)} (${f(c.estimated.ci95[0], 1)} to ${f(c.estimated.ci95[1], 1)})` : '–'}</td><td>${c.weakReasons.length ? esc(c.weakReasons.join('; ')) : 'like for like'}</td></tr>`).join('');
   const caveats = tally.flatMap((t) => [...t.caveats.map((c) => `<li>${t.dateIso} ${esc(c.className)}: ${esc(c.reason)}</li>`), t.upsampling ? `<li>${t.dateIso}: ${esc(t.upsampling)}</li>` : '', ...t.lowSun.map((n) => `<li>${t.dateIso} ${esc(n.className)}: ${esc(n.text)}</li>`)]).join('');
@@ -49,7 +46,8 @@ table{border-collapse:collapse;width:100%}td,th{border-bottom:1px solid #ccc;pad
 .two{display:flex;gap:8px}.two>*{flex:1}.caution{border:1px solid #b8860b;background:#fff8e1;padding:4px}.muted{color:#555}</style></head><body>
 <h1>seamtally — object counts by area</h1><div class="muted">Generated ${new Date().toISOString().slice(0, 16).replace('T', ' ')} UTC · score ≥ ${state.minScore.toFixed(2)} · ${state.scenes.length} scene(s): ${esc(state.scenes.map((s) => `${s.name} (${s.dateIso})`).join(', '))}</div>
 <div class="map"><h2>Map</h2><img alt="map" src="${mapPng}"></div><div class="chart"><h2>Counts over dates</h2><img alt="chart" src="${chart}"></div>
-<h2>Counts per area, date and class</h2><table><tr><th>Area</th><th>Date</th><th>Class</th><th>Count</th><th>Detected</th><th>Reviewed</th><th>95 % (Garwood)</th><th>Estimated true count (95 %)</th><th>ha</th><th>per ha</th><th>Imaged</th><th>GSD m</th><th>Resolution</th></tr>${rows}</table>
+<h2>Counts per area, date and class</h2><table><tr>${cols.map((c) => `<th title="${esc(c.title)}">${esc(c.label)}</th>`).join('')}</tr>${rows}</table>
+<p class="muted">${cols.filter((c) => c.id !== 'area' && c.id !== 'date' && c.id !== 'class').map((c) => `<b>${esc(c.label)}</b>: ${esc(c.title)}.`).join(' ')}</p>
 ${compRows ? `<h2>Change ${tally[0].dateIso} → ${tally[tally.length - 1].dateIso}</h2><table><tr><th>Area</th><th>Class</th><th>Before</th><th>After</th><th>Change</th><th>p (exact conditional test)</th><th>Estimated change (95 %)</th><th>Strength</th></tr>${compRows}</table>` : ''}
 <h2>Estimates</h2><p>${tally.some((t) => t.rows.some((r) => r.estimate)) ? `Estimated true counts come from cells a person checked completely: ${esc(ESTIMATE_METHOD)}. Estimated changes use both dates' samples (t interval on Welch–Satterthwaite degrees of freedom).` : 'No checked sample: the counts above are the detector\'s (after review), and their Garwood intervals describe counting noise only, not the detector\'s misses and false detections.'}</p>
 <h2>Resolution caveats</h2><ul>${caveats || '<li>none</li>'}</ul>

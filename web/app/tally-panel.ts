@@ -5,15 +5,22 @@ import { computeTally, type DateTally, type TallyRow } from './tally.ts';
 import type { CoverageService } from './coverage-service.ts';
 import { h, setChildren, fmt } from './dom.ts';
 import { COUNTING_RULE } from '../core/point-in-polygon.ts';
+import { TALLY_COLUMNS, estimateText, type TallyColumn } from '../core/tally-columns.ts';
 
-const headers: Array<[string, string]> = [
-  ['Area', ''], ['Class', ''], ['Count', 'Counted under the rule, after review'],
-  ['Det.', 'What the detector alone found at this score'], ['Rev.', 'Detections a person has checked (accepted, rejected or added)'],
-  ['95 %', '95 % exact Poisson interval of the count (Garwood): counting noise only, not the detector\'s errors'],
-  ['Estimated', 'Estimated true count from a checked sample of cells (stratified difference estimator) with its 95 % interval: it includes the detector\'s misses and false detections. Draw and check a sample in the Check tab.'],
-  ['ha', 'Area (geodesic), hectares'], ['/ha', 'Count per hectare'],
-  ['Imaged', 'Share of the area covered by valid pixels on this date'], ['Res.', 'Resolution caveat (hover for the reason)'],
-];
+/** The table's columns: the one column list (core/tally-columns.ts), less those shown in each date's head. */
+const columns = TALLY_COLUMNS.filter((c) => c.inTable);
+
+/** One cell of the table: the column's text, with the page's emphasis where it has one. */
+function cell(c: TallyColumn, r: TallyRow, partial: boolean): HTMLElement {
+  switch (c.id) {
+    case 'area': return h('td.l', {}, c.text(r));
+    case 'class': return h(`td.l.cls-${r.className}`, {}, c.text(r));
+    case 'count': return h('td', partial ? { title: 'partial: the run has not finished' } : {}, h('b', {}, `${c.text(r)}${partial ? '…' : ''}`));
+    case 'estimate': return estimateCell(r);
+    case 'caveat': return r.caveat ? h(`td.l.${levelClass[r.caveat.level]}`, { title: r.caveat.reason }, levelWords[r.caveat.level]) : h('td.l.muted', {}, '–');
+    default: return h('td', {}, c.text(r));
+  }
+}
 
 /** The estimate cell: the estimated true count and its interval, or how far the sample is, or that there is none. */
 function estimateCell(r: TallyRow): HTMLElement {
@@ -24,8 +31,8 @@ function estimateCell(r: TallyRow): HTMLElement {
       title: `Estimated true count ${fmt(e.count, 1)} (SE ${fmt(e.se, 1)}), 95 % ${fmt(e.ci95[0], 1)}–${fmt(e.ci95[1], 1)}, from ${e.cellsChecked} checked cells of ${r.sample?.cellsInSample ?? e.cellsChecked} drawn.${pr} Method: ${e.method}.` },
     h('b', {}, fmt(e.count, 0)), h('span.muted', {}, ` ${fmt(e.ci95[0], 0)}–${fmt(e.ci95[1], 0)}`));
   }
-  if (r.sample) return h('td.muted', { dataset: { testid: 'estimate' }, title: 'Check at least 2 cells in every stratum of the sample (Check tab) for an estimate.' }, `${r.sample.cellsChecked}/${r.sample.cellsInSample} cells`);
-  return h('td.muted', { dataset: { testid: 'estimate' }, title: 'No sample checked: draw one in the Check tab for an estimate that includes the detector\'s errors.' }, 'no sample');
+  if (r.sample) return h('td.muted', { dataset: { testid: 'estimate' }, title: 'Check at least 2 cells in every stratum of the sample (Check tab) for an estimate.' }, estimateText(r));
+  return h('td.muted', { dataset: { testid: 'estimate' }, title: 'No sample checked: draw one in the Check tab for an estimate that includes the detector\'s errors.' }, estimateText(r));
 }
 
 const levelClass = { reliable: 'lvl-reliable', 'use-with-care': 'lvl-care', 'not-reliable': 'lvl-unreliable' } as const;
@@ -95,16 +102,11 @@ export function mountTallyPanel(state: AppState, el: HTMLElement, coverage: Cove
     if (state.aois.length === 0) { setChildren(table, h('p.muted', {}, 'Draw or import an area to count inside it.')); }
     else {
       setChildren(table, h('table.grid', {},
-        h('thead', {}, h('tr', {}, ...headers.map(([t, title], i) => h(i < 2 || i === headers.length - 1 ? 'th.l' : 'th', { title }, t)))),
+        h('thead', {}, h('tr', {}, ...columns.map((c) => h(c.id === 'area' || c.id === 'class' || c.id === 'caveat' ? 'th.l' : 'th', { title: c.title }, c.label)))),
         h('tbody', {}, ...tally.flatMap((d) => [
-          h('tr.datehead', {}, h('td.l', { colSpan: headers.length }, `${d.dateIso} · ${fmt(d.gsdM, 2)} m GSD · ${d.sceneNames.length} scene${d.sceneNames.length > 1 ? 's' : ''}${d.noonSunDeg === null ? '' : ` · sun at most ${fmt(d.noonSunDeg, 0)}° (noon)`}`)),
+          h('tr.datehead', {}, h('td.l', { colSpan: columns.length }, `${d.dateIso} · ${fmt(d.gsdM, 2)} m GSD · ${d.sceneNames.length} scene${d.sceneNames.length > 1 ? 's' : ''}${d.noonSunDeg === null ? '' : ` · sun at most ${fmt(d.noonSunDeg, 0)}° (noon)`}`)),
           ...d.rows.map((r) => h('tr', { dataset: { aoi: r.aoiName, date: r.date, cls: r.className, count: String(r.count), detected: String(r.detectedCount), reviewed: String(r.reviewedCount), coverage: String(r.coverage) } },
-            h('td.l', {}, r.aoiName), h(`td.l.cls-${r.className}`, {}, r.className),
-            h('td', partial ? { title: 'partial: the run has not finished' } : {}, h('b', {}, `${r.count}${partial ? '…' : ''}`)), h('td', {}, String(r.detectedCount)), h('td', {}, String(r.reviewedCount)),
-            h('td', {}, `${fmt(r.interval.lower, 1)}–${fmt(r.interval.upper, 1)}`),
-            estimateCell(r),
-            h('td', {}, fmt(r.areaHa, 2)), h('td', {}, fmt(r.densityPerHa, 2)), h('td', {}, Number.isNaN(r.coverage) ? '…' : `${fmt(r.coverage * 100, 0)} %`),
-            r.caveat ? h(`td.l.${levelClass[r.caveat.level]}`, { title: r.caveat.reason }, levelWords[r.caveat.level]) : h('td.l.muted', {}, '–'))),
+            ...columns.map((c) => cell(c, r, partial)))),
         ]))));
     }
     setChildren(notes, ...tally.flatMap((d) => [

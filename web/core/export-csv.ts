@@ -1,37 +1,12 @@
 // Per-AOI counts as CSV (RFC 4180 quoting, formula-safe) and as JSON.
 import type { CountRow } from './counts.ts';
-import type { Interval } from './poisson-stats.ts';
+import { TALLY_COLUMNS, type ColumnRow, type CsvValue } from './tally-columns.ts';
 
-/** A counts row as exported: the core tally's row (interval present) or a bare CountRow. */
-export type ExportRow = CountRow & { interval?: Interval };
+/** A counts row as exported: the core tally's row (interval, caveat, sample present) or a bare CountRow. */
+export type ExportRow = ColumnRow;
 
-/** CSV columns, in order, with the CountRow field (or function of the row) each comes from. */
-export const COUNT_COLUMNS: readonly (readonly [string, keyof CountRow | ((r: ExportRow) => string | number)])[] = [
-  ['aoi_id', 'aoiId'],
-  ['aoi', 'aoiName'],
-  ['date', 'date'],
-  ['class', 'className'],
-  ['count', 'count'],
-  // 95 % exact Poisson interval of the count (Garwood): counting noise only
-  ['count_ci95_low', (r) => r.interval?.lower ?? ''],
-  ['count_ci95_high', (r) => r.interval?.upper ?? ''],
-  ['detected_count', 'detectedCount'],
-  ['reviewed_count', 'reviewedCount'],
-  ['area_ha', 'areaHa'],
-  ['imaged_area_ha', 'imagedAreaHa'],
-  ['density_per_ha', 'densityPerHa'],
-  ['coverage', 'coverage'],
-  ['gsd_m', 'gsdM'],
-  ['min_score', 'minScore'],
-  // from a checked sample (check-sample.ts, stratified-estimate.ts); empty until one is checked
-  ['estimated_count', (r) => r.estimate?.count ?? ''],
-  ['estimate_se', (r) => r.estimate?.se ?? ''],
-  ['estimate_ci95_low', (r) => r.estimate?.ci95[0] ?? ''],
-  ['estimate_ci95_high', (r) => r.estimate?.ci95[1] ?? ''],
-  ['cells_checked', (r) => r.estimate?.cellsChecked ?? 0],
-  ['estimate_method', (r) => r.estimate?.method ?? ''],
-  ['counting_rule', 'countingRule'],
-];
+/** CSV columns, in order, each with the function of the row it comes from (from the one column list, tally-columns.ts). */
+export const COUNT_COLUMNS: readonly (readonly [string, (r: ExportRow) => CsvValue])[] = TALLY_COLUMNS.flatMap((c) => c.csv);
 
 export interface CsvOptions {
   /** Prefix text cells starting with = + - @ (or tab/CR) with an apostrophe so spreadsheets do not run them (default true). */
@@ -56,7 +31,7 @@ export function csvField(value: string | number, options: CsvOptions = {}): stri
 export function countsToCsv(rows: readonly ExportRow[], options: CsvOptions = {}): string {
   const eol = options.eol ?? '\r\n';
   const lines = [COUNT_COLUMNS.map(([h]) => h).join(',')];
-  for (const r of rows) lines.push(COUNT_COLUMNS.map(([, k]) => csvField(typeof k === 'function' ? k(r) : (r[k] as string | number), options)).join(','));
+  for (const r of rows) lines.push(COUNT_COLUMNS.map(([, k]) => csvField(k(r), options)).join(','));
   return lines.join(eol) + eol;
 }
 
