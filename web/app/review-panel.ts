@@ -31,6 +31,8 @@ export function mountReviewPanel(state: AppState, el: HTMLElement, svc: ReviewSe
   let cellPos: number | null = null;
   const aoiSel = h('select', { 'aria-label': 'Area to sample', dataset: { testid: 'sample-area' }, onchange: () => { sampleAoiId = aoiSel.value || null; cellPos = null; render(); } });
   const sampleInfo = h('div', { dataset: { testid: 'sample-info' } });
+  // the seed of the next draw: empty draws a random one; either way the seed is kept with the sample and shown
+  const seedIn = h('input', { type: 'number', min: '0', step: '1', placeholder: 'random', 'aria-label': 'Seed of the next sample', title: 'Give the seed of an earlier sample to draw the same cells again (same run, area and threshold)', dataset: { testid: 'sample-seed' }, style: 'width:8em' });
   const sampleButtons = h('div.row');
   const estimateLines = h('div', { dataset: { testid: 'sample-estimate' } });
   el.append(
@@ -38,7 +40,7 @@ export function mountReviewPanel(state: AppState, el: HTMLElement, svc: ReviewSe
       h('div', {}, h('b', {}, 'Checked sample'), h('span.muted', {}, ' · an estimated true count whose interval includes the detector\'s errors')),
       h('p.muted', {}, 'The tool lays square cells over the area (about 20 objects each), groups them by what the detector found and picks some at random. In each picked cell accept or reject every detection and draw every missed object (centre in the cell and in the area), then mark the cell checked. Keys: ',
         h('span.kbd', {}, 'N'), '/', h('span.kbd', {}, 'P'), ' next / previous cell · ', h('span.kbd', {}, 'C'), ' mark the cell checked · ', h('span.kbd', {}, 'Z'), ' show the whole cell.'),
-      h('div.row', {}, 'Area ', aoiSel), sampleInfo, sampleButtons, estimateLines),
+      h('div.row', {}, 'Area ', aoiSel, ' seed ', seedIn), sampleInfo, sampleButtons, estimateLines),
     h('p.muted', {}, 'Keys: ', h('span.kbd', {}, 'J'), '/', h('span.kbd', {}, '→'), ' next · ', h('span.kbd', {}, 'K'), '/', h('span.kbd', {}, '←'), ' previous · ',
       h('span.kbd', {}, 'A'), ' accept · ', h('span.kbd', {}, 'R'), ' reject · ', h('span.kbd', {}, 'U'), ' reset · ', h('span.kbd', {}, 'B'), ' draw a missed object'),
     h('div.row', {}, h('button.small', { onclick: () => step(-1) }, '◀ Previous'), h('button.small', { onclick: () => step(1) }, 'Next ▶'),
@@ -168,7 +170,9 @@ export function mountReviewPanel(state: AppState, el: HTMLElement, svc: ReviewSe
     }
     const draw = h('button.small', { dataset: { testid: 'draw-sample' }, onclick: async () => {
       if (rec && rec.checked.length && !confirm(`Draw a new sample? The ${rec.checked.length} cells checked in this one are dropped (your review decisions stay).`)) return;
-      await drawSample(state, sampleAoiId!, dateIso, newSeed());
+      const typed = Number(seedIn.value);
+      await drawSample(state, sampleAoiId!, dateIso, seedIn.value !== '' && Number.isInteger(typed) && typed >= 0 ? typed : newSeed());
+      seedIn.value = '';
       goCell(0);
     } }, rec ? 'Draw a new sample' : 'Draw a sample');
     if (!rec) {
