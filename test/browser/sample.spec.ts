@@ -72,6 +72,7 @@ test('a sample checked by hand moves the estimate to the known count', async ({ 
     // C moves on to the next cell not yet checked once the check is kept: wait for it
     await expect(page.locator('[data-testid=sample-cell]')).toHaveAttribute('data-checked', 'false');
     const cell = await data(page, '[data-testid=sample-cell]');
+    if (done === 1) { await page.waitForTimeout(400); await page.screenshot({ path: 'test-results/sample-cell.png' }); }
     expect(cell.frame).toBe(`EPSG:${manifest.epsg}`);
     const [x0, y0, x1, y1] = [cell.x0M, cell.y0M, cell.x1M, cell.y1M].map(Number);
     const inCell = known.filter((o) => o.x >= x0 && o.x < x1 && o.y >= y0 && o.y < y1 && inFrame.contains(o.x, o.y));
@@ -117,7 +118,6 @@ test('a sample checked by hand moves the estimate to the known count', async ({ 
     }
     await page.keyboard.press('c');
     await expect(page.locator('[data-testid=sample-progress]')).toHaveAttribute('data-checked', String(done + 1));
-    if (done === 0) await page.screenshot({ path: 'test-results/sample-cell.png' });
   }
   await page.click('.tabs button[data-tab=tally]');
   const est = await data(page, `${row} [data-testid=estimate]`);

@@ -13,7 +13,7 @@ import { reviewedTable } from './date-table.ts';
 import { setReview, addBox, removeAdded } from './review-actions.ts';
 import { h, setChildren, fmt, renderWhenShown } from './dom.ts';
 import type { SampleLayer } from './sample-layer.ts';
-import { discardSample, drawSample, markCellChecked, newSeed, rowsInCell, unmarkCellChecked } from './sample-actions.ts';
+import { aoiInFrame, discardSample, drawSample, markCellChecked, newSeed, rowsInCell, unmarkCellChecked } from './sample-actions.ts';
 import { sampleProgress } from '../core/sample-estimate.ts';
 import type { DateTally } from '../core/tally.ts';
 
@@ -38,7 +38,7 @@ export function mountReviewPanel(state: AppState, el: HTMLElement, svc: ReviewSe
   el.append(
     h('div.reviewcard', {},
       h('div', {}, h('b', {}, 'Checked sample'), h('span.muted', {}, ' · an estimated true count whose interval includes the detector\'s errors')),
-      h('p.muted', {}, 'The tool lays square cells over the area (about 20 objects each), groups them by what the detector found and picks some at random. In each picked cell accept or reject every detection and draw every missed object (centre in the cell and in the area), then mark the cell checked. Keys: ',
+      h('p.muted', {}, 'The tool lays square cells over the area (about 20 objects each, smaller in a small area), groups them by what the detector found and picks some at random. In each picked cell accept or reject every detection and draw every missed object (centre in the cell and in the area), then mark the cell checked. Keys: ',
         h('span.kbd', {}, 'N'), '/', h('span.kbd', {}, 'P'), ' next / previous cell · ', h('span.kbd', {}, 'C'), ' mark the cell checked · ', h('span.kbd', {}, 'Z'), ' show the whole cell.'),
       h('div.row', {}, 'Area ', aoiSel, ' seed ', seedIn), sampleInfo, sampleButtons, estimateLines),
     h('p.muted', {}, 'Keys: ', h('span.kbd', {}, 'J'), '/', h('span.kbd', {}, '→'), ' next · ', h('span.kbd', {}, 'K'), '/', h('span.kbd', {}, '←'), ' previous · ',
@@ -109,7 +109,9 @@ export function mountReviewPanel(state: AppState, el: HTMLElement, svc: ReviewSe
     cellPos = ((k % rec.design.sample.length) + rec.design.sample.length) % rec.design.sample.length;
     pos = 0;
     const ext = svc.samples.extentOf(rec, rec.design.sample[cellPos]);
-    if (ext) svc.view.map.getView().fit(ext, { padding: [40, 40, 40, 40], duration: 150 });
+    // the whole cell with some context, never closer than 5 cm per screen pixel (closer shows nothing more)
+    const v = svc.view.map.getView();
+    if (ext) v.fit(ext, { padding: [60, 60, 60, 60], duration: 150, minResolution: 0.05 / (v.getProjection().getMetersPerUnit() ?? 1) });
     state.selection = null;
     state.events.emit('selection-changed');
     render();
@@ -163,7 +165,7 @@ export function mountReviewPanel(state: AppState, el: HTMLElement, svc: ReviewSe
     const dateIso = dateOf();
     const d = state.results.find((r) => r.dateIso === dateIso);
     const rec = sampleNow();
-    svc.samples.render(rec, cellNow()?.cellId ?? null);
+    svc.samples.render(rec, cellNow()?.cellId ?? null, rec && d ? aoiInFrame(state, rec.aoiId, d)?.polygons ?? null : null);
     if (!d || !sampleAoiId || !dateIso) {
       setChildren(sampleInfo, h('span.muted', {}, state.aois.length ? 'Run the detector first.' : 'Draw or import an area first.'));
       setChildren(sampleButtons); setChildren(estimateLines); return;

@@ -1,5 +1,7 @@
 // The sample cells on the map: every drawn cell of the shown AOI's sample outlined (checked cells green, cells still
 // to check white, the current cell thick and amber), drawn from the design's frame through lon/lat into the view.
+// Where a cell reaches past the area's edge, only its part inside the area counts: that part is drawn in the cell's
+// colour and the whole square as a faint dotted outline.
 import VectorLayer from 'ol/layer/Vector.js';
 import VectorSource from 'ol/source/Vector.js';
 import Feature from 'ol/Feature.js';
@@ -9,11 +11,14 @@ import { transform } from 'ol/proj.js';
 import type { MapView } from './map-view.ts';
 import type { SampleRecord } from './state.ts';
 import { createTransform, parseEpsgName } from '../core/crs.ts';
+import { clipPolygon } from '../core/oriented-box.ts';
+import type { MultiPolygonRings } from '../core/point-in-polygon.ts';
 
 const styles = {
   todo: new Style({ stroke: new Stroke({ color: '#ffffff', width: 1.5, lineDash: [4, 3] }) }),
   checked: new Style({ stroke: new Stroke({ color: '#4cc38a', width: 1.5 }), fill: new Fill({ color: 'rgba(76,195,138,0.08)' }) }),
   current: new Style({ stroke: new Stroke({ color: '#f2b134', width: 3 }) }),
+  square: new Style({ stroke: new Stroke({ color: 'rgba(255,255,255,0.45)', width: 1, lineDash: [1, 4] }) }),
 };
 
 export class SampleLayer {
@@ -26,8 +31,8 @@ export class SampleLayer {
     } }));
   }
 
-  /** Draw the sample's cells (or nothing), marking `currentCellId`. */
-  render(rec: SampleRecord | null, currentCellId: string | null): void {
+  /** Draw the sample's cells (or nothing), marking `currentCellId`; `aoiPolygons`: the area in the sample's frame. */
+  render(rec: SampleRecord | null, currentCellId: string | null, aoiPolygons: MultiPolygonRings | null = null): void {
     this.source.clear();
     if (!rec) return;
     const toLonLat = createTransform(parseEpsgName(rec.frameCrs), 4326);
@@ -36,10 +41,28 @@ export class SampleLayer {
     rec.design.sample.forEach((id, k) => {
       const c = byId.get(id);
       if (!c) return;
-      const ring = [[c.x0M, c.y0M], [c.x1M, c.y0M], [c.x1M, c.y1M], [c.x0M, c.y1M], [c.x0M, c.y0M]]
-        .map(([x, y]) => transform([...toLonLat([x, y])], 'EPSG:4326', code));
+      const toView = ([x, y]: readonly number[]) => transform([...toLonLat([x, y])], 'EPSG:4326', code);
+      const ring = [[c.x0M, c.y0M], [c.x1M, c.y0M], [c.x1M, c.y1M], [c.x0M, c.y1M], [c.x0M, c.y0M]].map(toView);
       const state = id === currentCellId ? 'current' : rec.checked.includes(id) ? 'checked' : 'todo';
-      this.source.addFeature(new Feature({ geometry: new Polygon([ring]), state, label: String(k + 1) }));
+      const full = c.areaM2 >= (c.x1M - c.x0M) * (c.y1M - c.y0M) * (1 - 1e-9);
+      if (full || !aoiPolygons) {
+        this.source.addFeature(new Feature({ geometry: new Polygon([ring]), state, label: String(k + 1) }));
+        return;
+      }
+      this.source.addFeature(new Feature({ geometry: new Polygon([ring]), state: 'square', label: String(k + 1) }));
+      // the counted part: each ring of the area clipped to the square (display only; the count uses the AOI rule)
+      const box = [c.x0M, c.y0M, c.x1M, c.y0M, c.x1M, c.y1M, c.x0M, c.y1M];
+      for (const poly of aoiPolygons) {
+        for (const r of poly) {
+          const flat = r.flatMap((p) => [p[0], p[1]]);
+          const clipped = clipPolygon(flat.length >= 4 && flat[0] === flat[flat.length - 2] && flat[1] === flat[flat.length - 1] ? flat.slice(0, -2) : flat, box);
+          if (clipped.length < 6) continue;
+          const pts: number[][] = [];
+          for (let i = 0; i < clipped.length; i += 2) pts.push(toView([clipped[i], clipped[i + 1]]));
+          pts.push(pts[0]);
+          this.source.addFeature(new Feature({ geometry: new Polygon([pts]), state }));
+        }
+      }
     });
   }
 
