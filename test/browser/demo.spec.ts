@@ -48,7 +48,7 @@ test('the demo opens with the shipped model, runs, and matches seamtally detect 
   test.skip(!sidecar, 'no shipped model under models/ yet');
   test.setTimeout(600_000);
   const manifest = JSON.parse(readFileSync(join(DEMO_DIR, 'manifest.json'), 'utf8')) as Manifest;
-  await page.goto('/');
+  await page.goto('/?demo=open');
   await page.waitForSelector('body[data-ready=true]', { timeout: 120_000 });
   await expect(page.locator('[data-testid=scene-list] li')).toHaveCount(manifest.scenes.length);
   await expect(page.locator('[data-testid=model-info]')).toContainText('shipped');
@@ -98,7 +98,7 @@ for (const other of shipped.slice(1)) {
     test.setTimeout(600_000);
     const manifest = JSON.parse(readFileSync(join(DEMO_DIR, 'manifest.json'), 'utf8')) as Manifest;
     const sc = JSON.parse(readFileSync(join('models', other), 'utf8')) as { name: string };
-    await page.goto('/');
+    await page.goto('/?demo=open');
     await page.waitForSelector('body[data-ready=true]', { timeout: 120_000 });
     await page.locator('[data-testid=model-choice]').selectOption(`/models/${other}`);
     await expect(page.locator('[data-testid=model-info]')).toContainText(sc.name);
@@ -112,3 +112,40 @@ for (const other of shipped.slice(1)) {
     for (const [k, n] of Object.entries(expected)) expect(Math.abs(browser[k] - n), k).toBeLessThanOrEqual(slack(n));
   });
 }
+
+test('the demo is offered, not imposed: start empty, open it by choice, removals and putting it away are remembered', async ({ page }) => {
+  test.skip(!sidecar, 'no shipped model under models/ yet');
+  test.setTimeout(180_000);
+  const manifest = JSON.parse(readFileSync(join(DEMO_DIR, 'manifest.json'), 'utf8')) as Manifest;
+  const ready = async () => { await page.waitForSelector('body[data-ready=true]', { timeout: 120_000 }); };
+  const scenes = page.locator('[data-testid=scene-list] li');
+  await page.goto('/');
+  await ready();
+  // a first visit opens nothing and offers the demo
+  await expect(scenes).toHaveCount(0);
+  await expect(page.locator('[data-testid=demo-offer] [data-testid=start-empty]')).toBeVisible();
+  await page.screenshot({ path: 'test-results/demo-offer.png' });
+  await page.click('[data-testid=start-empty]');
+  await page.reload();
+  await ready();
+  await expect(scenes).toHaveCount(0);
+  await expect(page.locator('[data-testid=start-empty]')).toHaveCount(0);
+  // opened by choice: its scenes and areas
+  await page.click('[data-testid=demo-open]');
+  await expect(scenes).toHaveCount(manifest.scenes.length);
+  await expect(page.locator('[data-testid=aoi-list] li[data-aoi]')).not.toHaveCount(0);
+  // a removed demo scene stays removed after a reload (the demo itself reopens: it was chosen)
+  await scenes.first().locator('button', { hasText: 'Remove' }).click();
+  await expect(scenes).toHaveCount(manifest.scenes.length - 1);
+  await page.reload();
+  await ready();
+  await expect(scenes).toHaveCount(manifest.scenes.length - 1);
+  // put away: scenes and the demo's areas go, and stay gone
+  await page.click('[data-testid=demo-put-away]');
+  await expect(scenes).toHaveCount(0);
+  await page.reload();
+  await ready();
+  await expect(scenes).toHaveCount(0);
+  await expect(page.locator('[data-testid=aoi-list] li[data-aoi]')).toHaveCount(0);
+  await expect(page.locator('[data-testid=demo-open]')).toBeVisible();
+});

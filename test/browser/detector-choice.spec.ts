@@ -16,7 +16,7 @@ test('the Detector block offers each shipped detector, loads the chosen one, and
   await page.route('**/models/second-detector.onnx', (r) => r.fulfill({ contentType: 'application/octet-stream', body: readFileSync(FIXTURE_MODEL) }));
   const first = JSON.parse(readFileSync(`models/${shipped[0]}`, 'utf8')) as { name: string };
 
-  await page.goto('/');
+  await page.goto('/?demo=open');
   await page.waitForSelector('body[data-ready=true]', { timeout: 120_000 });
   const info = page.locator('[data-testid=model-info]');
   const choice = page.locator('[data-testid=model-choice]');

@@ -54,7 +54,7 @@ test('a sample checked by hand moves the estimate to the known count', async ({ 
   }
   const knownInArea = known.filter((o) => o.cls === 'vehicle' && inFrame.contains(o.x, o.y)).length;
 
-  await page.goto('/');
+  await page.goto('/?demo=open');
   await page.waitForSelector('body[data-ready=true]', { timeout: 120_000 });
   await page.click('[data-testid=run]');
   await expect(page.locator('[data-testid=run-stats]')).toHaveAttribute('data-status', 'done', { timeout: 540_000 });

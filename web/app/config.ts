@@ -10,6 +10,8 @@ export interface PageConfig {
   paceMs: number;
   /** Worker count (`?workers=`), or null for navigator.hardwareConcurrency. */
   workers: number | null;
+  /** The address asks for a demo: `?demo=open`, or a `?manifest=` of its own (then it opens without asking). */
+  demoAsked: boolean;
   /** Test-only fault injection (`?fault=`, see faults.ts); null (no hooks) unless the flag is present. */
   faults: FaultPlan | null;
 }
@@ -28,5 +30,6 @@ export function readPageConfig(loc: Location): PageConfig {
     paceMs: Math.min(num('pace') ?? 0, 10_000),
     workers: num('workers') !== null ? Math.max(1, Math.min(32, Math.floor(num('workers')!))) : null,
     faults: readFaultPlan(loc.search),
+    demoAsked: q.get('demo') === 'open' || localPath(q.get('manifest')) !== null,
   };
 }

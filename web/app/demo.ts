@@ -51,10 +51,18 @@ export async function fetchManifest(manifestUrl: string): Promise<DemoManifest |
   } catch { return null; }
 }
 
-/** Open the demo's scenes and (when the analyst has no areas yet) its areas. */
-export async function openDemo(state: AppState, svc: SceneServices, demo: DemoManifest): Promise<void> {
+/** The ids of the demo's areas (to put them away with the demo). */
+export async function demoAreaIds(demo: DemoManifest): Promise<string[]> {
+  let fc: unknown = demo.aoisInline;
+  if (!fc && demo.aoisUrl) fc = await fetch(demo.aoisUrl).then((r) => (r.ok ? r.json() : null)).catch(() => null);
+  const feats = (fc as { features?: Array<{ id?: unknown; properties?: { id?: unknown } }> } | null)?.features ?? [];
+  return feats.map((f) => String(f.id ?? f.properties?.id ?? '')).filter((x) => x);
+}
+
+/** Open the demo's scenes and, when `withAreas` (the first time) and the analyst has no areas yet, its areas. */
+export async function openDemo(state: AppState, svc: SceneServices, demo: DemoManifest, withAreas = true): Promise<void> {
   for (const s of demo.scenes) await openScene(state, svc, { kind: 'url', url: s.url }, { dateIso: s.dateIso });
-  if (state.aois.length > 0) return;
+  if (!withAreas || state.aois.length > 0) return;
   let text: string | null = null;
   if (demo.aoisInline) text = JSON.stringify(demo.aoisInline);
   else if (demo.aoisUrl) {

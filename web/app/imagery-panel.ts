@@ -4,6 +4,7 @@ import { isDateConfirmed, scenesByDate } from './state.ts';
 import { h, setChildren, fmt } from './dom.ts';
 import { openScene, removeScene, setSceneDate, type SceneServices } from './scene-open.ts';
 import { pickFiles } from './download.ts';
+import { rememberRemovedScene } from './demo-choice.ts';
 
 /** Render the imagery block into `el`; `dropTarget` (the map) also accepts dropped files. */
 export function mountImageryPanel(state: AppState, el: HTMLElement, dropTarget: HTMLElement, svc: SceneServices): void {
@@ -43,7 +44,7 @@ export function mountImageryPanel(state: AppState, el: HTMLElement, dropTarget: 
           h('div.row', {}, date,
             isDateConfirmed(s) ? null : h('button.small.primary', { dataset: { testid: 'confirm-date' }, title: 'The file carries no date: this one is a suggestion. Sun notes and comparisons wait for your confirmation.',
               onclick: () => setSceneDate(state, s.fingerprint, date.value) }, 'Confirm date'),
-            h('button.small', { onclick: () => removeScene(state, svc, s.fingerprint) }, 'Remove')),
+            h('button.small', { onclick: () => { if (s.origin.kind === 'url') rememberRemovedScene(s.origin.url); void removeScene(state, svc, s.fingerprint); } }, 'Remove')),
           isDateConfirmed(s) ? null : h('div.weak', { dataset: { testid: 'date-unconfirmed' } }, 'Date suggested, not confirmed.'));
       })))));
     if (groups.length === 0) list.append(h('div.muted', {}, 'No imagery yet.'));

@@ -24,7 +24,8 @@ import { mountReviewPanel } from './review-panel.ts';
 import { mountTakeawayPanel } from './takeaway-panel.ts';
 import { addArea, addHole, editArea } from './aoi-actions.ts';
 import { fetchDefaultModel } from './model-load.ts';
-import { fetchManifest, openDemo } from './demo.ts';
+import { demoAreaIds, fetchManifest } from './demo.ts';
+import { DemoOffer, demoChoice, mountDemoOffer } from './demo-choice.ts';
 import { readPageConfig } from './config.ts';
 import { installQuotaFault } from './faults.ts';
 import { CoverageService } from './coverage-service.ts';
@@ -98,8 +99,12 @@ async function main(): Promise<void> {
   } catch (err) {
     state.events.emit('notice', { level: 'error', text: toErrorInfo(err).message });
   }
-  if (demo) await openDemo(state, svc, demo);
-  else state.events.emit('notice', { level: 'info', text: 'No demo scenes were found (run npm start to build them). Open your own GeoTIFF scenes to begin.' });
+  // the demo is offered, not imposed: opened when the address asks for it or the analyst chose it before
+  if (demo) {
+    const offer = new DemoOffer(state, svc, demo);
+    mountDemoOffer(state, layout.imagery, offer, () => demoAreaIds(demo));
+    if (config.demoAsked || demoChoice() === 'open') await offer.open();
+  } else state.events.emit('notice', { level: 'info', text: 'No demo scenes were found (run npm start to build them). Open your own GeoTIFF scenes to begin.' });
   await restoreKeptScenes(state, svc);
   await runs.restore();
   document.body.dataset.ready = 'true';
