@@ -107,6 +107,16 @@ async function main(): Promise<void> {
   } else state.events.emit('notice', { level: 'info', text: 'No demo scenes were found (run npm start to build them). Open your own GeoTIFF scenes to begin.' });
   await restoreKeptScenes(state, svc);
   await runs.restore();
+  // kept scenes whose files were not open at load: once the analyst has reopened them all, restore the kept run
+  // (its results; review decisions and samples are already back)
+  if (state.scenes.some((s) => !s.input)) {
+    const stop = state.events.on('scenes-changed', () => {
+      if (state.scenes.length === 0) { stop(); return; }
+      if (state.opening > 0 || state.scenes.some((s) => !s.input) || state.results.length > 0 || state.progress.status !== 'idle') return;
+      stop();
+      void runs.restore();
+    });
+  }
   document.body.dataset.ready = 'true';
 }
 

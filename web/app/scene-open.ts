@@ -14,9 +14,9 @@ const PREVIEW_LONG_SIDE_PX = 2048;
 
 export interface SceneServices { pool: DetectorPool; layers: SceneLayers }
 
-function originOf(input: SceneInput): SceneOrigin {
+function originOf(input: SceneInput, handle?: FileSystemFileHandle): SceneOrigin {
   return input.kind === 'url' ? { kind: 'url', url: input.url }
-    : { kind: 'file', name: input.file.name, sizeB: input.file.size, lastModifiedMs: input.file.lastModified };
+    : { kind: 'file', name: input.file.name, sizeB: input.file.size, lastModifiedMs: input.file.lastModified, ...(handle ? { handle } : {}) };
 }
 
 function nameOf(input: SceneInput): string {
@@ -27,7 +27,7 @@ function nameOf(input: SceneInput): string {
  * Open one scene. Errors become a notice naming the file ("x.png: This file is not a TIFF…") and return null.
  * Reopening a known scene (same fingerprint) re-attaches the file and keeps its date.
  */
-export async function openScene(state: AppState, svc: SceneServices, input: SceneInput, opts: { dateIso?: string } = {}): Promise<SceneEntry | null> {
+export async function openScene(state: AppState, svc: SceneServices, input: SceneInput, opts: { dateIso?: string; handle?: FileSystemFileHandle } = {}): Promise<SceneEntry | null> {
   let name = input.kind === 'file' ? input.file.name : input.url;
   state.opening++;
   state.events.emit('scenes-changed');
@@ -39,6 +39,11 @@ export async function openScene(state: AppState, svc: SceneServices, input: Scen
     if (known) {
       const wasClosed = known.input === null;
       known.input = input;
+      if (opts.handle && known.origin.kind === 'file' && !known.origin.handle) {
+        known.origin = { ...known.origin, handle: opts.handle };
+        const { input: _live, ...record } = known;
+        await state.store?.putScene(record).catch(() => undefined);
+      }
       state.events.emit('scenes-changed');
       if (wasClosed) void drawScene(state, svc, known);
       return known;
@@ -62,7 +67,7 @@ export async function openScene(state: AppState, svc: SceneServices, input: Scen
       state.events.emit('notice', { level: 'info', text: `${name} carries no acquisition date; ${dateIso} is suggested from its ${fromName ? 'file name' : 'modification date'}. Confirm or correct it in the Imagery list: until then no sun notes or comparisons use it.` });
     }
     const entry: SceneEntry = {
-      fingerprint, name, dateIso, dateConfirmed, origin: originOf(input), info, description: { ...r.value, info }, addedMs: Date.now(), input,
+      fingerprint, name, dateIso, dateConfirmed, origin: originOf(input, opts.handle), info, description: { ...r.value, info }, addedMs: Date.now(), input,
     };
     state.scenes = [...state.scenes, entry];
     const { input: _live, ...record } = entry;

@@ -9,7 +9,8 @@ import type { SampleDesign } from '../core/check-sample.ts';
 import { EventBus } from './events.ts';
 
 /** Where a scene's bytes come from, as kept (a File cannot be kept, so it is matched by fingerprint on reopen). */
-export type SceneOrigin = { kind: 'url'; url: string } | { kind: 'file'; name: string; sizeB: number; lastModifiedMs: number };
+export type SceneOrigin = { kind: 'url'; url: string }
+  | { kind: 'file'; name: string; sizeB: number; lastModifiedMs: number; /** File System Access handle (Chromium), kept for one-click reopening. */ handle?: FileSystemFileHandle };
 
 /** A scene as kept in IndexedDB. */
 export interface SceneRecord {
