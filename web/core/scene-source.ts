@@ -33,8 +33,13 @@ export interface SceneInfo {
   bitsPerSample: number;
   /** Meaningful bits, from metadata (e.g. NBITS=11) when the file says so; else equal to bitsPerSample. */
   significantBits: number;
-  /** The GDAL nodata value, or null when the file has none. */
+  /**
+   * The GDAL nodata value, or null when the file has none. With an alpha band or an internal mask (maskKind) the
+   * pixels they mark not valid are read as this value: the file's nodata, or 0 when it declares none.
+   */
   nodata: number | null;
+  /** Where not-valid pixels are marked besides nodata: an alpha band, a GDAL internal mask, or nothing. */
+  maskKind?: 'alpha' | 'internal-mask' | null;
   /** Internal tile (or strip block) size of the full-resolution level. */
   tileWidthPx: number;
   tileHeightPx: number;

@@ -177,6 +177,39 @@ function dtypeOf(image: GeoTIFFImage): { dtype: SampleDtype; bits: number; signi
   return { dtype, bits: stored, significantBits: bits };
 }
 
+/**
+ * GDAL internal mask images (NewSubfileType bit 2: the full-resolution mask has 4, overview masks 5), by size
+ * "w×h". GDAL treats a mask value of 0 as not valid (nodata), as an alpha of 0.
+ */
+async function maskImages(tiff: GeoTIFF): Promise<Map<string, GeoTIFFImage>> {
+  const out = new Map<string, GeoTIFFImage>();
+  for (let i = 1; i < MAX_IMAGES; i++) {
+    let img: GeoTIFFImage;
+    try { img = await tiff.getImage(i); } catch (err) {
+      if (err instanceof Error && /^No image at index/.test(err.message)) break;
+      throw err;
+    }
+    const subfile = Number(img.getFileDirectory().getValue('NewSubfileType') ?? 0);
+    if ((subfile & 4) !== 0 && img.getSamplesPerPixel() === 1) out.set(`${img.getWidth()}×${img.getHeight()}`, img);
+  }
+  return out;
+}
+
+function photometricOf(img: GeoTIFFImage): number | null {
+  const fd = img.getFileDirectory();
+  return fd.hasTag('PhotometricInterpretation') ? Number(fd.getValue('PhotometricInterpretation')) : null;
+}
+
+/** Index of an alpha sample (TIFF ExtraSamples 1 = associated, 2 = unassociated alpha), or -1. */
+function alphaSampleIndex(img: GeoTIFFImage): number {
+  const extra = img.getFileDirectory().getValue('ExtraSamples') as ArrayLike<number> | number | undefined;
+  if (extra === undefined) return -1;
+  const e = typeof extra === 'number' ? [extra] : Array.from(extra);
+  const first = img.getSamplesPerPixel() - e.length;
+  const k = e.findIndex((v) => v === 1 || v === 2);
+  return k < 0 ? -1 : first + k;
+}
+
 /** Images that are reduced-resolution versions of the first (NewSubfileType bit 0), masks (bit 2) left out. */
 async function overviewImages(tiff: GeoTIFF, main: GeoTIFFImage): Promise<GeoTIFFImage[]> {
   const out: GeoTIFFImage[] = [];
@@ -235,6 +268,8 @@ async function openTiff(open: () => Promise<GeoTIFF>, opts: GeoTiffSourceOptions
   let main: GeoTIFFImage;
   let overviews: GeoTIFFImage[];
   let info: SceneInfo;
+  let masks = new Map<string, GeoTIFFImage>();
+  let maskKind: SceneInfo['maskKind'] = null;
   try {
     tiff = await open();
     main = await tiff.getImage(0);
@@ -263,11 +298,16 @@ async function openTiff(open: () => Promise<GeoTIFF>, opts: GeoTiffSourceOptions
       { userDefs: opts.userDefs },
     );
     const { dtype, bits, significantBits } = dtypeOf(main);
-    const bandCount = main.getSamplesPerPixel();
+    // an alpha band or a GDAL internal mask marks pixels as not valid: they are read as nodata (the file's nodata
+    // value, or 0 when it declares none), and the alpha band is not one of the scene's bands
+    const alphaIdx = photometricOf(main) === 6 || photometricOf(main) === 3 ? -1 : alphaSampleIndex(main);
+    masks = alphaIdx >= 0 ? new Map() : await maskImages(tiff);
+    maskKind = alphaIdx >= 0 ? 'alpha' : masks.size > 0 ? 'internal-mask' : null;
+    const bandCount = main.getSamplesPerPixel() - (alphaIdx >= 0 ? 1 : 0);
     const meta = (await main.getGDALMetadata()) ?? {};
     const bandNames: string[] = [];
     for (let b = 0; b < bandCount; b++) {
-      const m = (await main.getGDALMetadata(b)) ?? {};
+      const m = (await main.getGDALMetadata(b + (alphaIdx >= 0 && b >= alphaIdx ? 1 : 0))) ?? {};
       bandNames.push(typeof m.DESCRIPTION === 'string' ? m.DESCRIPTION : '');
     }
     const nbits = Number(meta.NBITS);
@@ -280,7 +320,8 @@ async function openTiff(open: () => Promise<GeoTIFF>, opts: GeoTiffSourceOptions
       dtype: photometric === 6 || photometric === 3 ? 'uint8' : dtype,
       bitsPerSample: bits,
       significantBits: Number.isInteger(nbits) && nbits > 0 && nbits <= bits ? nbits : significantBits,
-      nodata: main.getGDALNoData(),
+      nodata: main.getGDALNoData() ?? (maskKind ? 0 : null),
+      maskKind,
       tileWidthPx: main.getTileWidth(),
       tileHeightPx: main.getTileHeight(),
       overviews: overviews.map((o) => ({ widthPx: o.getWidth(), heightPx: o.getHeight() })),
@@ -292,7 +333,7 @@ async function openTiff(open: () => Promise<GeoTIFF>, opts: GeoTiffSourceOptions
   } catch (err) {
     throw classify(err, name, 'open');
   }
-  return new GeoTiffSource(tiff, [main, ...overviews], info, opts);
+  return new GeoTiffSource(tiff, [main, ...overviews], info, opts, masks);
 }
 
 class GeoTiffSource implements SceneSource {
@@ -306,7 +347,11 @@ class GeoTiffSource implements SceneSource {
   private readonly asRgb: boolean;
   private readonly fast = new Map<number, Promise<FastBlockReader | null>>();
 
-  constructor(private readonly tiff: GeoTIFF, private readonly levels: GeoTIFFImage[], info: SceneInfo, opts: GeoTiffSourceOptions) {
+  /** Sample index of the alpha band in the file (-1: none). */
+  private readonly alphaIdx: number;
+
+  constructor(private readonly tiff: GeoTIFF, private readonly levels: GeoTIFFImage[], info: SceneInfo, opts: GeoTiffSourceOptions,
+    private readonly masks: Map<string, GeoTIFFImage> = new Map()) {
     this.info = info;
     const cacheBytes = opts.cacheBytes ?? 'auto';
     this.sampleBytes = allocSamples(info.dtype, 0).BYTES_PER_ELEMENT;
@@ -316,6 +361,7 @@ class GeoTiffSource implements SceneSource {
     });
     this.keyPrefix = `s${sourceCounter++}`;
     this.asRgb = info.photometric === 6 || info.photometric === 3;
+    this.alphaIdx = info.maskKind === 'alpha' ? alphaSampleIndex(levels[0]) : -1;
   }
 
   /** Block grid of a level: file tiles, or groups of whole strips. */
@@ -338,7 +384,7 @@ class GeoTiffSource implements SceneSource {
     try {
       let fast = this.fast.get(level);
       if (!fast) {
-        fast = this.asRgb ? Promise.resolve(null) : fastBlockReader(img, this.info.dtype, this.info.bandCount).catch(() => null);
+        fast = this.asRgb ? Promise.resolve(null) : fastBlockReader(img, this.info.dtype, img.getSamplesPerPixel()).catch(() => null);
         this.fast.set(level, fast);
       }
       const reader = await fast;
@@ -349,7 +395,19 @@ class GeoTiffSource implements SceneSource {
     } catch (err) {
       throw classify(err, this.info.name, 'read');
     }
-    const bands = raw.slice(0, this.info.bandCount) as SampleArray[];
+    const bands = (this.alphaIdx >= 0 ? raw.filter((_, k) => k !== this.alphaIdx) : raw).slice(0, this.info.bandCount) as SampleArray[];
+    // not-valid pixels (alpha 0, or 0 in the internal mask of this level's size) become nodata in every band
+    let invalid: ArrayLike<number> | null = this.alphaIdx >= 0 ? raw[this.alphaIdx] : null;
+    const mask = this.masks.get(`${img.getWidth()}×${img.getHeight()}`);
+    if (mask) {
+      try { invalid = ((await mask.readRasters({ window: [x0, y0, x1, y1], interleave: false, signal })) as unknown as ArrayLike<number>[])[0]; } catch (err) {
+        throw classify(err, this.info.name, 'read');
+      }
+    }
+    if (invalid) {
+      const nd = this.info.nodata ?? 0;
+      for (let i = 0; i < invalid.length; i++) if (invalid[i] === 0) for (const b of bands) b[i] = nd;
+    }
     let byteLength = 0;
     for (const b of bands) byteLength += b.byteLength;
     return { widthPx: x1 - x0, heightPx: y1 - y0, bands, byteLength };
