@@ -47,7 +47,7 @@ export function mountImageryPanel(state: AppState, el: HTMLElement, dropTarget: 
         const info = s.info;
         return h('li', { dataset: { scene: s.name } },
           h('div.name', {}, s.name, s.input ? '' : h('span.weak', {}, ' (drop the file again to reopen it)')),
-          h('div.muted', {}, `${info.widthPx} × ${info.heightPx} px · ${fmt(info.georef.gsdM, 2)} m GSD · EPSG:${info.georef.epsg} · ${info.bandCount} band${info.bandCount > 1 ? 's' : ''}, ${info.significantBits}-bit`),
+          h('div.muted', {}, `${info.widthPx} × ${info.heightPx} px · ${fmt(info.georef.gsdM, 2)} m GSD · EPSG:${info.georef.epsg} · ${info.bandCount} band${info.bandCount > 1 ? 's' : ''}, ${info.significantBits}-bit${info.maskKind === 'alpha' ? ' · alpha band as mask' : info.maskKind === 'internal-mask' ? ' · internal mask' : ''}`),
           h('div.row', {}, date,
             isDateConfirmed(s) ? null : h('button.small.primary', { dataset: { testid: 'confirm-date' }, title: 'The file carries no date: this one is a suggestion. Sun notes and comparisons wait for your confirmation.',
               onclick: () => setSceneDate(state, s.fingerprint, date.value) }, 'Confirm date'),
