@@ -210,3 +210,22 @@ test('own files after a reload: the page names the files to drop again, and once
   await page.click('.tabs button[data-tab=check]');
   await expect(page.locator('[data-testid=sample-info]')).toContainText('seed 7');
 });
+
+test('layout: at 1 440 px the map takes at least half the width; at 1 280 × 720 the tally table fits its panel, all columns on request', async ({ page }) => {
+  await openFixture(page);
+  await runToEnd(page);
+  const mapW = await page.locator('#map').evaluate((e) => e.getBoundingClientRect().width);
+  expect(mapW).toBeGreaterThanOrEqual(720);
+  await page.screenshot({ path: 'test-results/layout-1440.png' });
+  await page.setViewportSize({ width: 1280, height: 720 });
+  const tally = page.locator('[data-testid=tally]');
+  await expect(tally.locator('tr[data-aoi]').first()).toBeVisible();
+  const fits = () => tally.evaluate((e) => { const t = e.querySelector('table')!; return t.getBoundingClientRect().right <= e.getBoundingClientRect().right + 0.5; });
+  expect(await fits()).toBe(true);
+  // every main column is there: area, class, count, estimate, imaged share, resolution caveat
+  const heads = await tally.locator('th').evaluateAll((ths) => ths.filter((t) => getComputedStyle(t).display !== 'none').map((t) => t.textContent));
+  expect(heads).toEqual(['Area', 'Class', 'Count', 'Estimated', 'Imaged', 'Res.']);
+  await page.screenshot({ path: 'test-results/layout-1280.png' });
+  await page.check('[data-testid=all-columns]');
+  await expect(tally.locator('th:has-text("95 %")')).toBeVisible();
+});

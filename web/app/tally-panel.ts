@@ -9,16 +9,19 @@ import { TALLY_COLUMNS, estimateText, type TallyColumn } from '../core/tally-col
 
 /** The table's columns: the one column list (core/tally-columns.ts), less those shown in each date's head. */
 const columns = TALLY_COLUMNS.filter((c) => c.inTable);
+/** Columns a narrow panel leaves out until the analyst asks for all columns (styles.css: .sec). */
+const SECONDARY = new Set<TallyColumn['id']>(['interval', 'detected', 'reviewed', 'hectares', 'density']);
+const secClass = (c: TallyColumn) => (SECONDARY.has(c.id) ? '.sec' : '');
 
 /** One cell of the table: the column's text, with the page's emphasis where it has one. */
 function cell(c: TallyColumn, r: TallyRow, partial: boolean): HTMLElement {
   switch (c.id) {
-    case 'area': return h('td.l', {}, c.text(r));
+    case 'area': return h('td.l', { title: c.text(r) }, c.text(r));
     case 'class': return h(`td.l.cls-${r.className}`, {}, c.text(r));
     case 'count': return h('td', partial ? { title: 'partial: the run has not finished' } : {}, h('b', {}, `${c.text(r)}${partial ? '…' : ''}`));
     case 'estimate': return estimateCell(r);
     case 'caveat': return r.caveat ? h(`td.l.${levelClass[r.caveat.level]}`, { title: r.caveat.reason }, levelWords[r.caveat.level]) : h('td.l.muted', {}, '–');
-    default: return h('td', {}, c.text(r));
+    default: return h(`td${secClass(c)}`, {}, c.text(r));
   }
 }
 
@@ -68,11 +71,12 @@ export function mountTallyPanel(state: AppState, el: HTMLElement, coverage: Cove
     state.shownDate = dateSel.value || null; state.shownDateChosen = true; state.events.emit('shown-date-changed');
   } });
   const table = h('div', { dataset: { testid: 'tally' } });
+  const allCols = h('input', { type: 'checkbox', dataset: { testid: 'all-columns' }, onchange: () => { stale = true; render(); } });
   const runNote = h('div');
   const notes = h('div.muted');
   el.append(
     h('div.row', {}, h('label', {}, 'Score ≥ ', slider, ' ', value)),
-    h('div.row', {}, h('label', {}, 'Map shows ', dateSel)),
+    h('div.row', {}, h('label', {}, 'Map shows ', dateSel), h('label.muted', { title: 'On a narrow screen the table shows its main columns; tick to see them all (the panel then scrolls sideways)' }, allCols, ' all columns')),
     runNote, table, notes,
     h('p.muted', {}, `Counting rule: ${COUNTING_RULE}`),
   );
@@ -101,8 +105,8 @@ export function mountTallyPanel(state: AppState, el: HTMLElement, coverage: Cove
     if (tally.length === 0) { setChildren(table, h('p.muted', {}, 'Run the detector to see counts.')); setChildren(notes); return; }
     if (state.aois.length === 0) { setChildren(table, h('p.muted', {}, 'Draw or import an area to count inside it.')); }
     else {
-      setChildren(table, h('table.grid', {},
-        h('thead', {}, h('tr', {}, ...columns.map((c) => h(c.id === 'area' || c.id === 'class' || c.id === 'caveat' ? 'th.l' : 'th', { title: c.title }, c.label)))),
+      setChildren(table, h(allCols.checked ? 'table.grid.allcols' : 'table.grid', {},
+        h('thead', {}, h('tr', {}, ...columns.map((c) => h(c.id === 'area' || c.id === 'class' || c.id === 'caveat' ? 'th.l' : `th${secClass(c)}`, { title: c.title }, c.label)))),
         h('tbody', {}, ...tally.flatMap((d) => [
           h('tr.datehead', {}, h('td.l', { colSpan: columns.length }, `${d.dateIso} · ${fmt(d.gsdM, 2)} m GSD · ${d.sceneNames.length} scene${d.sceneNames.length > 1 ? 's' : ''}${d.noonSunDeg === null ? '' : ` · sun at most ${fmt(d.noonSunDeg, 0)}° (noon)`}`)),
           ...d.rows.map((r) => h('tr', { dataset: { aoi: r.aoiName, date: r.date, cls: r.className, count: String(r.count), detected: String(r.detectedCount), reviewed: String(r.reviewedCount), coverage: String(r.coverage) } },
