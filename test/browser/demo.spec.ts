@@ -143,6 +143,8 @@ test('the demo is offered, not imposed: start empty, open it by choice, removals
   // put away: scenes and the demo's areas go, and stay gone
   await page.click('[data-testid=demo-put-away]');
   await expect(scenes).toHaveCount(0);
+  await expect(page.locator('[data-testid=aoi-list] li[data-aoi]')).toHaveCount(0);
+  await expect(page.locator('[data-testid=demo-open]')).toBeVisible(); // put away fully (the button returns when done)
   await page.reload();
   await ready();
   await expect(scenes).toHaveCount(0);
