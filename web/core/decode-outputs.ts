@@ -34,7 +34,13 @@ export interface PixelDetections {
   angleRad: Float32Array;
   score: Float32Array;
   classIdx: Uint8Array;
+  /** Feature vectors at the peaks (`featureDim` per row), when the model has a features output. */
+  features?: Float32Array;
+  featureDim?: number;
 }
+
+/** Largest feature vector the contract allows. */
+export const MAX_FEATURE_DIM = 64;
 
 export interface DecodeOptions {
   /** Keep peaks / rows with score ≥ this. */
@@ -97,6 +103,12 @@ function decodeHeatmap(sc: ModelSidecar, outputs: Record<string, TensorLike>, mi
   const rows = new Rows();
   const d = hm.data;
   const peaks: number[] = [];
+  const feat = o.features === null ? null : tensor(outputs, o.features, 'output.features', [1, null, H, W]);
+  const F = feat ? feat.dims[1] : 0;
+  if (feat && !(F >= 1 && F <= MAX_FEATURE_DIM)) {
+    throw new SeamtallyError('model-mismatch', `The model's output "${o.features}" (sidecar output.features) has ${F} channels; the contract allows 1 to ${MAX_FEATURE_DIM}. Use the sidecar written for this .onnx file.`, { field: 'output.features' });
+  }
+  const fv: number[] = [];
   for (let c = 0; c < C; c++) {
     const base = c * plane;
     for (let j = 0; j < H; j++) {
@@ -107,10 +119,12 @@ function decodeHeatmap(sc: ModelSidecar, outputs: Record<string, TensorLike>, mi
         const fx = off ? off[k] : 0.5;
         const fy = off ? off[plane + k] : 0.5;
         rows.add(ox + (i + fx) * s, oy + (j + fy) * s, size[k], size[plane + k], ang ? ang[k] : 0, d[base + k], c);
+        if (feat) for (let f = 0; f < F; f++) fv.push(feat.data[f * plane + k]);
       }
     }
   }
-  return rows.table();
+  const t = rows.table();
+  return feat ? { ...t, features: Float32Array.from(fv), featureDim: F } : t;
 }
 
 /**

@@ -36,7 +36,9 @@ import { SeamtallyError } from './errors.ts';
  *      "heatmap": "hm",                            [1, C, H/s, W/s], values in 0..1, C = number of classes
  *      "size": "wh",                               [1, 2, H/s, W/s]: box width (along the angle), height, input px
  *      "offset": "reg" | null,                     [1, 2, H/s, W/s]: sub-cell x, y in cells (0..1); null → 0.5
- *      "angle": "ang" | null}                      [1, 1, H/s, W/s]: radians; null → axis-aligned boxes
+ *      "angle": "ang" | null,                      [1, 1, H/s, W/s]: radians; null → axis-aligned boxes
+ *      "features": "feat"}                         optional [1, F, H/s, W/s], F ≤ 64: each detection carries the
+ *                                                  F values at its peak (the review-adapted scorer uses them)
  *     Peaks are 3×3 local maxima ≥ the minimum score (decode-outputs.ts defines centre and tie rules exactly).
  *   or
  *     {"layout": "boxes", "boxes": "det"}          [1, N, 6]: x1, y1, x2, y2, score, class index; input pixels
@@ -72,6 +74,8 @@ export interface CenterHeatmapOutput {
   size: string;
   offset: string | null;
   angle: string | null;
+  /** Optional: [1, F, H/s, W/s], F ≤ 64, the model's last shared layer (detections carry it for review adaptation). */
+  features: string | null;
 }
 export interface BoxesOutput { layout: 'boxes'; boxes: string }
 export type SidecarOutput = CenterHeatmapOutput | BoxesOutput;
@@ -166,6 +170,7 @@ function parseOutput(v: unknown, tilePx: number): SidecarOutput {
     layout: 'center-heatmap', stride,
     heatmap: str(o.heatmap, 'output.heatmap'), size: str(o.size, 'output.size'),
     offset: nameOrNull(o.offset, 'output.offset'), angle: nameOrNull(o.angle, 'output.angle'),
+    features: nameOrNull(o.features, 'output.features'),
   };
 }
 
@@ -273,7 +278,7 @@ export function parseSidecar(text: string): ModelSidecar {
 export function sidecarOutputNames(sc: ModelSidecar): string[] {
   const o = sc.output;
   if (o.layout === 'boxes') return [o.boxes];
-  return [o.heatmap, o.size, o.offset, o.angle].filter((n): n is string => n !== null);
+  return [o.heatmap, o.size, o.offset, o.angle, o.features].filter((n): n is string => n !== null);
 }
 
 /** A dimension as ONNX metadata reports it: a number, or a symbolic name / null when dynamic. */
@@ -330,4 +335,5 @@ export function checkModelIO(sc: ModelSidecar, io: ModelIO): void {
   checkDims('output.size', has('output.size', o.size), [null, 2, cells, cells]);
   if (o.offset !== null) checkDims('output.offset', has('output.offset', o.offset), [null, 2, cells, cells]);
   if (o.angle !== null) checkDims('output.angle', has('output.angle', o.angle), [null, 1, cells, cells]);
+  if (o.features !== null) checkDims('output.features', has('output.features', o.features), [null, null, cells, cells]);
 }

@@ -235,6 +235,7 @@ export function toGroundFrame(p: ScenePipeline, dets: PixelDetections): Detectio
     t.sceneIdx[i] = p.sceneIdx;
   }
   t.count = dets.count;
+  if (dets.features && dets.featureDim) { t.features = dets.features; t.featureDim = dets.featureDim; }
   return t;
 }
 

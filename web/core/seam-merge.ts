@@ -40,6 +40,12 @@ export function selectPixelRows(dets: PixelDetections, rows: ArrayLike<number>):
     out.lengthPx[k] = dets.lengthPx[i]; out.widthPx[k] = dets.widthPx[i]; out.angleRad[k] = dets.angleRad[i];
     out.score[k] = dets.score[i]; out.classIdx[k] = dets.classIdx[i];
   }
+  if (dets.features && dets.featureDim) {
+    const F = dets.featureDim;
+    out.features = new Float32Array(n * F);
+    out.featureDim = F;
+    for (let k = 0; k < n; k++) out.features.set(dets.features.subarray(rows[k] * F, rows[k] * F + F), k * F);
+  }
   return out;
 }
 
@@ -72,6 +78,17 @@ export function concatDetectionTables(tables: readonly DetectionTable[]): Detect
     o += c;
   }
   out.count = n;
+  // feature vectors: where any table has them (one dimension); rows of tables without get NaN
+  const F = tables.find((t) => t.features && t.featureDim)?.featureDim;
+  if (F) {
+    out.features = new Float32Array(n * F).fill(NaN);
+    out.featureDim = F;
+    let r = 0;
+    for (const t of tables) {
+      if (t.features && t.featureDim === F) out.features.set(t.features.subarray(0, t.count * F), r * F);
+      r += t.count;
+    }
+  }
   return out;
 }
 
@@ -102,6 +119,12 @@ export function selectRows(t: DetectionTable, rows: ArrayLike<number>): Detectio
   for (let q = 0; q < n; q++) out.score[dst[q]] = score[src[q]];
   for (let q = 0; q < n; q++) out.classIdx[dst[q]] = classIdx[src[q]];
   for (let q = 0; q < n; q++) out.sceneIdx[dst[q]] = sceneIdx[src[q]];
+  if (t.features && t.featureDim) {
+    const F = t.featureDim;
+    out.features = new Float32Array(n * F);
+    out.featureDim = F;
+    for (let k = 0; k < n; k++) out.features.set(t.features.subarray(rows[k] * F, rows[k] * F + F), k * F);
+  }
   out.count = n;
   return out;
 }

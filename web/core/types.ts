@@ -69,6 +69,12 @@ export interface DetectionTable {
   classIdx: Uint8Array;
   /** Index of the scene (within the run's scene list) the detection came from. */
   sceneIdx: Uint16Array;
+  /**
+   * The model's feature vector at each detection's peak (row-major, `featureDim` per row), when the model has a
+   * `features` output; NaN rows for objects without one (boxes the analyst added). Absent otherwise.
+   */
+  features?: Float32Array;
+  featureDim?: number;
 }
 
 /** Allocate an empty table with room for `capacity` rows. */

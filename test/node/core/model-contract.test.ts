@@ -32,7 +32,7 @@ describe('parseSidecar', () => {
   it('accepts the documented example (both layouts) and keeps every field', () => {
     const sc = parseSidecar(JSON.stringify(VALID));
     expect(sc.classes).toEqual(['vehicle', 'solar_panel']);
-    expect(sc.output).toEqual(VALID.output);
+    expect(sc.output).toEqual({ ...VALID.output, features: null }); // the optional features output absent → null
     expect(sc.objects?.vehicle.maxExtentM).toBe(7);
     expect(sc.summary).toBe('a tiny test model');
     expect(sc.lowSun).toEqual(VALID.lowSun);
