@@ -16,12 +16,14 @@ import { prepareScene, runFrameEpsg, runScene, type ScenePipeline, type TileTimi
 import { COUNTING_RULE } from '../web/core/point-in-polygon.ts';
 import type { SceneSource } from '../web/core/scene-source.ts';
 import { mergeDetectionTables } from '../web/core/seam-merge.ts';
+import { applyScorer, parseScorer, type ScorerJson } from '../web/core/adapted-scorer.ts';
+import { createDetectionTable } from '../web/core/types.ts';
 import type { DetectionTable } from '../web/core/types.ts';
 import { assertSomeValidPixels, readValidMask } from '../web/core/valid-mask.ts';
 import { openGeoTiffPath } from '../web/io/geotiff-source.ts';
 import { openNodeModel } from '../web/io/ort-node.ts';
 
-export const USAGE = 'Usage: seamtally detect SCENE.tif... --aoi AOI.geojson --model FILE.onnx --out DIR [--tile PX] [--overlap PX|auto] [--min-score S] [--date YYYY-MM-DD] [--threads N] [--bands R,G,B] [--quiet]';
+export const USAGE = 'Usage: seamtally detect SCENE.tif... --aoi AOI.geojson --model FILE.onnx --out DIR [--tile PX] [--overlap PX|auto] [--min-score S] [--date YYYY-MM-DD] [--threads N] [--bands R,G,B] [--scorer SCORER.json] [--quiet]';
 
 export interface DetectArgs {
   scenes: string[];
@@ -34,6 +36,8 @@ export interface DetectArgs {
   date?: string;
   threads: number;
   bands?: number[];
+  /** A review-adapted scorer (seamtally adapt, or the page's export): counts use its scores. */
+  scorer?: string;
   quiet: boolean;
 }
 
@@ -58,7 +62,7 @@ export function parseDetectArgs(argv: string[]): DetectArgs {
       options: {
         aoi: { type: 'string' }, model: { type: 'string' }, out: { type: 'string' }, tile: { type: 'string' },
         overlap: { type: 'string' }, 'min-score': { type: 'string' }, date: { type: 'string' }, threads: { type: 'string' },
-        bands: { type: 'string' }, quiet: { type: 'boolean' },
+        bands: { type: 'string' }, scorer: { type: 'string' }, quiet: { type: 'boolean' },
       },
     });
   } catch (err) {
@@ -84,8 +88,13 @@ export function parseDetectArgs(argv: string[]): DetectArgs {
   }
   return {
     scenes: parsed.positionals, aoi: v.aoi, model: v.model, out: v.out, tilePx: intArg(v.tile, 'tile', 16), overlapPx, minScore,
-    date: v.date, threads: intArg(v.threads, 'threads', 1) ?? 1, bands, quiet: v.quiet ?? false,
+    date: v.date, threads: intArg(v.threads, 'threads', 1) ?? 1, bands, scorer: v.scorer, quiet: v.quiet ?? false,
   };
+}
+
+/** The detector's identity a scorer is tied to: the sidecar's name and version (else the file name). */
+export function modelId(sidecar: Pick<ModelSidecar, 'name' | 'version'>, modelPath: string): string {
+  return `${sidecar.name ?? basename(modelPath)}${sidecar.version ? ` ${sidecar.version}` : ''}`;
 }
 
 /** `<model>.model.json` next to `<model>.onnx`. */
@@ -131,7 +140,7 @@ function sceneDate(sources: SceneSource[], given?: string): string {
   return dates[0] ?? 'unknown';
 }
 
-export function writeAtomic(path: string, text: string): void {
+export function writeAtomic(path: string, text: string | Uint8Array): void {
   writeFileSync(`${path}.part`, text);
   renameSync(`${path}.part`, path);
 }
@@ -154,6 +163,13 @@ function progressPrinter(quiet: boolean) {
 export async function run(argv: string[]): Promise<number> {
   const args = parseDetectArgs(argv);
   const sidecar = loadSidecar(args.model);
+  let scorer: ScorerJson | null = null;
+  if (args.scorer) {
+    try { scorer = parseScorer(readText(args.scorer, 'scorer file')); applyScorer(scorer, createDetectionTable('EPSG:4326', 0), sidecar.classes, modelId(sidecar, args.model)); } catch (err) {
+      if (err instanceof SeamtallyError) throw err;
+      throw new SeamtallyError('bad-argument', `${(err as Error).message}`);
+    }
+  }
   const aois = parseAois(readText(args.aoi, 'AOI file'));
   const modelBytes = new Uint8Array(readFileSync(args.model));
   const model = await openNodeModel(modelBytes, sidecar, { threads: args.threads, tilePx: args.tilePx });
@@ -189,7 +205,9 @@ export async function run(argv: string[]): Promise<number> {
     }
     const t0 = performance.now();
     const merged = tables.length ? mergeDetectionTables(tables) : mergeDetectionTables([]);
-    const detections = merged.frameCrs ? merged : { ...merged, frameCrs: epsgName(frameEpsg) };
+    let detections = merged.frameCrs ? merged : { ...merged, frameCrs: epsgName(frameEpsg) };
+    // a review-adapted scorer re-scores every detection; the counts (and the exported scores) are then its scores
+    if (scorer) detections = { ...detections, score: applyScorer(scorer, detections, sidecar.classes, modelId(sidecar, args.model)) };
     const mergeMs = performance.now() - t0;
     const minScore = pipelines[0]?.minScore ?? DEFAULT_MIN_SCORE;
     // the tally the app shows (core/tally.ts): counts, their Garwood interval, caveats and the date's notes
@@ -200,11 +218,14 @@ export async function run(argv: string[]): Promise<number> {
     mkdirSync(args.out, { recursive: true });
     writeAtomic(join(args.out, 'detections.geojson'), JSON.stringify(geojson) + '\n');
     writeAtomic(join(args.out, 'counts.csv'), countsToCsv(rows));
+    // the model's features at each detection (rows in detections.geojson order), for seamtally adapt
+    const featureMeta = detections.features && detections.featureDim ? { file: 'features.f32', dim: detections.featureDim, rows: detections.count } : null;
+    if (featureMeta) writeAtomic(join(args.out, 'features.f32'), Buffer.from(detections.features!.buffer, detections.features!.byteOffset, detections.count * featureMeta.dim * 4));
     const plans = pipelines.map((p) => ({ scene: p.source.info.name, tilePx: p.plan.tilePx, overlapPx: p.plan.overlapPx, tiles: p.plan.tiles.length, overheadRatio: p.plan.overheadRatio, bands: p.bands.indices.map((b) => b + 1), stretch: p.stretch }));
     const timing = { tilesRun, msPerTile: tilesRun ? { read: totals.readMs / tilesRun, resampleNormalise: totals.resampleMs / tilesRun, infer: totals.inferMs / tilesRun, decode: totals.decodeMs / tilesRun } : null, mergeMs, totalMs: performance.now() - started };
     // The same notes the app's tally shows: resolution caveats at the coarsest scene's GSD, upsampling, low sun.
     const notes = { gsdM, caveats: tally.caveats, upsampling: tally.upsampling, noonSunDeg: tally.noonSunDeg, lowSun: tally.lowSun };
-    writeAtomic(join(args.out, 'counts.json'), JSON.stringify(countsToJson(rows, COUNTING_RULE, { model: sidecar.name ?? basename(args.model), frameCrs: detections.frameCrs, date, scenes: scenesMeta, tiling: plans, timing, notes }), null, 2) + '\n');
+    writeAtomic(join(args.out, 'counts.json'), JSON.stringify(countsToJson(rows, COUNTING_RULE, { model: sidecar.name ?? basename(args.model), frameCrs: detections.frameCrs, date, scenes: scenesMeta, tiling: plans, timing, notes, modelId: modelId(sidecar, args.model), features: featureMeta, scores: scorer ? { source: 'adapted', scorer: args.scorer } : { source: 'detector' } }), null, 2) + '\n');
     if (!args.quiet) {
       for (const r of rows) process.stderr.write(`${r.aoiName} ${r.date} ${r.className}: ${r.count} (coverage ${(r.coverage * 100).toFixed(1)} %)\n`);
       for (const c of notes.caveats) if (c.level !== 'reliable') process.stderr.write(`${c.className} at ${Number(c.gsdM.toFixed(2))} m GSD: ${c.level.replace(/-/g, ' ')}. ${c.reason}\n`);

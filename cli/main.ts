@@ -11,6 +11,7 @@ const commands: Record<string, () => Promise<Command>> = {
   eval: () => import('./eval.ts'),
   sample: () => import('./sample.ts'),
   estimate: () => import('./estimate.ts'),
+  adapt: () => import('./adapt.ts'),
 };
 
 export async function main(argv: string[]): Promise<number> {
