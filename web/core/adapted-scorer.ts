@@ -50,7 +50,13 @@ export function notAdaptedReason(positives: number, negatives: number): string |
   return `needs ${MIN_REVIEWS_PER_SIDE} accepted and ${MIN_REVIEWS_PER_SIDE} rejected detections (has ${positives} and ${negatives})`;
 }
 
-const logit = (p: number) => Math.log(Math.max(1e-6, Math.min(1 - 1e-6, p)) / (1 - Math.max(1e-6, Math.min(1 - 1e-6, p))));
+/** Score as a logit, clipped to scores 0.001–0.999 (so a score rounded to 4 decimals in an export gives the same). */
+const logit = (p: number) => { const q = Math.max(1e-3, Math.min(1 - 1e-3, p)); return Math.log(q / (1 - q)); };
+/**
+ * Smallest spread a feature is standardised by: the score logit and the log box sizes 0.05 (sizes that differ by
+ * less than ~5 % are measurement noise, not a signal), the model's features 1e-3.
+ */
+const minStd = (j: number) => (j < 3 ? 0.05 : 1e-3);
 
 /** The raw feature row of detection i (length 3 + F), or null when its model features are missing (NaN). */
 export function featureRow(t: DetectionTable, i: number, modelFeatureDim: number): number[] | null {
@@ -114,7 +120,7 @@ export function trainScorer(input: TrainInput): ScorerJson {
     const mean = new Array<number>(d).fill(0), std = new Array<number>(d).fill(0);
     for (const r of rows) r.forEach((v, j) => { mean[j] += v / rows.length; });
     for (const r of rows) r.forEach((v, j) => { std[j] += (v - mean[j]) ** 2 / rows.length; });
-    for (let j = 0; j < d; j++) std[j] = Math.sqrt(std[j]) > 1e-9 ? Math.sqrt(std[j]) : 1;
+    for (let j = 0; j < d; j++) std[j] = Math.max(Math.sqrt(std[j]), minStd(j));
     const X = new Float64Array(rows.length * d);
     rows.forEach((r, i) => r.forEach((v, j) => { X[i * d + j] = (v - mean[j]) / std[j]; }));
     const k = Math.min(5, pos, neg);
