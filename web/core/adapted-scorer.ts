@@ -1,14 +1,15 @@
-// A scorer adapted to this imagery from the analyst's review: per class, an L2 logistic regression (logistic.ts) on
-// each detection's features — the detector's score (as a logit), its box size, and the model's feature vector at
-// its peak when the model has a features output — trained on accepted (positive) and rejected (negative)
-// detections, with the regularisation chosen by cross-validation on those reviews. It re-scores every detection
+// A scorer adapted to this imagery from the analyst's review: per class, an L2 logistic regression (logistic.ts)
+// that corrects the detector's own score — logit(adapted) = logit(score) + w·x, no intercept — from each detection's
+// box size and the model's feature vector at its peak (when the model has a features output), trained on accepted
+// (positive) and rejected (negative) detections, with the regularisation chosen by cross-validation on those
+// reviews. Measured on real imagery (bench/adapt-simulation.md) it does not yet help enough to be offered in the page. It re-scores every detection
 // of the class; the counting threshold then applies to the adapted scores. The same JSON serves the page and the
 // CLI (`seamtally adapt`, `seamtally detect --scorer`).
 //
 // Honest gain: precision and recall at the threshold, before (the detector's scores) and after (out-of-fold adapted
 // scores), measured on the reviews only; objects the analyst added count as real objects both score sets miss
 // (a detection below the run's floor cannot be recovered by re-scoring).
-import { chooseC, crossValidatedProbabilities, fitLogistic, predictLogistic, stratifiedFolds, type LogisticModel } from './logistic.ts';
+import { chooseC, crossValidatedProbabilities, fitLogistic, predictLogistic, stratifiedFolds, type InterceptMode, type LogisticModel } from './logistic.ts';
 import { mulberry32 } from './seeded-random.ts';
 import type { DetectionTable, ReviewState } from './types.ts';
 
@@ -16,6 +17,13 @@ export const SCORER_FORMAT = 'seamtally-scorer/1';
 /** Reviews a class needs before it is adapted (each of accepted and rejected). */
 export const MIN_REVIEWS_PER_SIDE = 10;
 const C_GRID = [0.01, 0.03, 0.1, 0.3, 1, 3, 10];
+/**
+ * The correction has no intercept: the reviews the queue asks for lie near the threshold and are mostly false, so a
+ * fitted intercept (or a weight on the score itself) learnt from them shifts every score, far from the threshold
+ * too, and cost up to 0.35 of F1 on the real validation sets (bench/adapt-simulation.md). Without it the features
+ * re-rank detections around the detector's own score.
+ */
+const INTERCEPT: InterceptMode = 'none';
 
 export interface ClassScorer {
   coef: number[];
@@ -35,7 +43,7 @@ export interface ScorerJson {
   /** The detector it belongs to ("name version"); a scorer applies to that detector's detections only. */
   model: string;
   classes: string[];
-  /** Features used: the score logit, log length, log width, then `modelFeatureDim` model features (0: none). */
+  /** Features used: log length, log width, then `modelFeatureDim` model features (0: none); the score is the offset. */
   modelFeatureDim: number;
   /** Per class name: the fitted scorer, or null where there were too few reviews (its scores stay the detector's). */
   perClass: Record<string, ClassScorer | null>;
@@ -53,14 +61,14 @@ export function notAdaptedReason(positives: number, negatives: number): string |
 /** Score as a logit, clipped to scores 0.001–0.999 (so a score rounded to 4 decimals in an export gives the same). */
 const logit = (p: number) => { const q = Math.max(1e-3, Math.min(1 - 1e-3, p)); return Math.log(q / (1 - q)); };
 /**
- * Smallest spread a feature is standardised by: the score logit and the log box sizes 0.05 (sizes that differ by
+ * Smallest spread a feature is standardised by: the log box sizes 0.05 (sizes that differ by
  * less than ~5 % are measurement noise, not a signal), the model's features 1e-3.
  */
-const minStd = (j: number) => (j < 3 ? 0.05 : 1e-3);
+const minStd = (j: number) => (j < 2 ? 0.05 : 1e-3);
 
-/** The raw feature row of detection i (length 3 + F), or null when its model features are missing (NaN). */
+/** The raw feature row of detection i (log length, log width, then F model features), or null when its model features are missing (NaN). */
 export function featureRow(t: DetectionTable, i: number, modelFeatureDim: number): number[] | null {
-  const row = [logit(t.score[i]), Math.log(Math.max(0.05, t.lengthM[i])), Math.log(Math.max(0.05, t.widthM[i]))];
+  const row = [Math.log(Math.max(0.05, t.lengthM[i])), Math.log(Math.max(0.05, t.widthM[i]))];
   if (modelFeatureDim > 0) {
     if (!t.features || t.featureDim !== modelFeatureDim) return null;
     for (let f = 0; f < modelFeatureDim; f++) {
@@ -125,9 +133,12 @@ export function trainScorer(input: TrainInput): ScorerJson {
     rows.forEach((r, i) => r.forEach((v, j) => { X[i * d + j] = (v - mean[j]) / std[j]; }));
     const k = Math.min(5, pos, neg);
     const fold = stratifiedFolds(y, k, mulberry32(input.seed ?? 1));
-    const { C } = chooseC(X, y, d, C_GRID, fold, k);
-    const oof = crossValidatedProbabilities(X, y, d, C, fold, k);
-    const m: LogisticModel = fitLogistic(X, y, d, C);
+    // a correction to the detector's own logit (the offset): with few or unclear reviews the scores stay the detector's
+    const offset = scores.map(logit);
+    const mode = INTERCEPT;
+    const { C } = chooseC(X, y, d, C_GRID, fold, k, offset, mode);
+    const oof = crossValidatedProbabilities(X, y, d, C, fold, k, offset, mode);
+    const m: LogisticModel = fitLogistic(X, y, d, C, { offset, intercept: mode });
     perClass[cls] = { coef: Array.from(m.coef), intercept: m.intercept, C, mean, std, positives: pos, negatives: neg };
     gain[cls] = { threshold: input.threshold, before, after: precisionRecall(Array.from(oof, (p) => p >= input.threshold), truth, added), added };
   });
@@ -158,7 +169,7 @@ export function applyScorer(s: ScorerJson, t: DetectionTable, classes: readonly 
     const f = featureRow(t, i, s.modelFeatureDim);
     if (!f) continue;
     const x = f.map((v, j) => (v - cs.mean[j]) / cs.std[j]);
-    out[i] = predictLogistic({ coef: Float64Array.from(cs.coef), intercept: cs.intercept, C: cs.C }, x);
+    out[i] = predictLogistic({ coef: Float64Array.from(cs.coef), intercept: cs.intercept, C: cs.C }, x, 0, logit(t.score[i]));
   }
   return out;
 }

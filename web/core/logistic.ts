@@ -6,6 +6,9 @@
 // (the intercept b is not penalised), and k-fold cross-validation to choose C. The test compares coefficients with
 // scikit-learn on generated data.
 
+/** The intercept: fitted freely (scikit-learn's), penalised like the coefficients, or fixed at 0. */
+export type InterceptMode = 'free' | 'penalized' | 'none';
+
 export interface LogisticModel {
   coef: Float64Array;
   intercept: number;
@@ -43,16 +46,18 @@ function solveSpd(A: Float64Array, b: Float64Array, n: number): Float64Array {
  * Fit on rows `X` (n × d, row-major) with labels `y` (1 positive, 0 negative). Newton steps with a backtracking line
  * search until the gradient's largest component is below `tol` (default 1e-10).
  */
-export function fitLogistic(X: Float64Array, y: ArrayLike<number>, d: number, C: number, opts: { weights?: ArrayLike<number>; tol?: number; maxIter?: number } = {}): LogisticModel {
+export function fitLogistic(X: Float64Array, y: ArrayLike<number>, d: number, C: number, opts: { weights?: ArrayLike<number>; offset?: ArrayLike<number>; intercept?: InterceptMode; tol?: number; maxIter?: number } = {}): LogisticModel {
   const n = y.length;
   const p = d + 1; // coefficients, then the intercept
   const w = new Float64Array(p);
   const sw = (i: number) => (opts.weights ? opts.weights[i] : 1);
+  // a fixed offset per row (e.g. the detector's own logit): the model learns a correction to it
+  const off = (i: number) => (opts.offset ? opts.offset[i] : 0);
   const objective = (v: Float64Array) => {
-    let f = 0;
+    let f = opts.intercept === 'penalized' ? 0.5 * v[d] * v[d] : 0;
     for (let j = 0; j < d; j++) f += 0.5 * v[j] * v[j];
     for (let i = 0; i < n; i++) {
-      let z = v[d];
+      let z = v[d] + off(i);
       for (let j = 0; j < d; j++) z += v[j] * X[i * d + j];
       f += C * sw(i) * softplus(y[i] ? -z : z);
     }
@@ -64,8 +69,9 @@ export function fitLogistic(X: Float64Array, y: ArrayLike<number>, d: number, C:
     const g = new Float64Array(p);
     const H = new Float64Array(p * p);
     for (let j = 0; j < d; j++) { g[j] = w[j]; H[j * p + j] = 1; }
+    if (opts.intercept === 'penalized') { g[d] = w[d]; H[d * p + d] = 1; }
     for (let i = 0; i < n; i++) {
-      let z = w[d];
+      let z = w[d] + off(i);
       for (let j = 0; j < d; j++) z += w[j] * X[i * d + j];
       const mu = sigmoid(z);
       const r = C * sw(i) * (mu - (y[i] ? 1 : 0));
@@ -77,6 +83,8 @@ export function fitLogistic(X: Float64Array, y: ArrayLike<number>, d: number, C:
       }
     }
     for (let j = 0; j < p; j++) for (let k = j + 1; k < p; k++) H[j * p + k] = H[k * p + j];
+    // a fixed intercept of 0: no gradient, an identity row and column (its step is 0)
+    if (opts.intercept === 'none') { g[d] = 0; for (let j = 0; j < p; j++) { H[d * p + j] = 0; H[j * p + d] = 0; } H[d * p + d] = 1; }
     let gmax = 0;
     for (let j = 0; j < p; j++) gmax = Math.max(gmax, Math.abs(g[j]));
     if (gmax < tol) break;
@@ -98,8 +106,8 @@ export function fitLogistic(X: Float64Array, y: ArrayLike<number>, d: number, C:
 }
 
 /** The model's probability for one row. */
-export function predictLogistic(m: LogisticModel, x: ArrayLike<number>, offset = 0): number {
-  let z = m.intercept;
+export function predictLogistic(m: LogisticModel, x: ArrayLike<number>, offset = 0, zOffset = 0): number {
+  let z = m.intercept + zOffset;
   for (let j = 0; j < m.coef.length; j++) z += m.coef[j] * x[offset + j];
   return sigmoid(z);
 }
@@ -117,16 +125,17 @@ export function stratifiedFolds(y: ArrayLike<number>, k: number, rnd: () => numb
 }
 
 /** Out-of-fold probabilities of a model fitted with `C` on the other folds. */
-export function crossValidatedProbabilities(X: Float64Array, y: ArrayLike<number>, d: number, C: number, fold: Int32Array, k: number): Float64Array {
+export function crossValidatedProbabilities(X: Float64Array, y: ArrayLike<number>, d: number, C: number, fold: Int32Array, k: number, zOffset?: ArrayLike<number>, intercept: InterceptMode = 'free'): Float64Array {
   const out = new Float64Array(y.length);
   for (let f = 0; f < k; f++) {
     const train: number[] = [];
     for (let i = 0; i < y.length; i++) if (fold[i] !== f) train.push(i);
     const Xt = new Float64Array(train.length * d);
     const yt = new Uint8Array(train.length);
-    train.forEach((i, r) => { Xt.set(X.subarray(i * d, i * d + d), r * d); yt[r] = y[i] ? 1 : 0; });
-    const m = fitLogistic(Xt, yt, d, C);
-    for (let i = 0; i < y.length; i++) if (fold[i] === f) out[i] = predictLogistic(m, X, i * d);
+    const ot = new Float64Array(train.length);
+    train.forEach((i, r) => { Xt.set(X.subarray(i * d, i * d + d), r * d); yt[r] = y[i] ? 1 : 0; ot[r] = zOffset ? zOffset[i] : 0; });
+    const m = fitLogistic(Xt, yt, d, C, { offset: ot, intercept });
+    for (let i = 0; i < y.length; i++) if (fold[i] === f) out[i] = predictLogistic(m, X, i * d, zOffset ? zOffset[i] : 0);
   }
   return out;
 }
@@ -139,8 +148,8 @@ export function logLoss(p: ArrayLike<number>, y: ArrayLike<number>): number {
 }
 
 /** The C of `grid` with the lowest cross-validated log-loss (ties: the smallest C, the strongest regularisation). */
-export function chooseC(X: Float64Array, y: ArrayLike<number>, d: number, grid: readonly number[], fold: Int32Array, k: number): { C: number; losses: number[] } {
-  const losses = grid.map((C) => logLoss(crossValidatedProbabilities(X, y, d, C, fold, k), y));
+export function chooseC(X: Float64Array, y: ArrayLike<number>, d: number, grid: readonly number[], fold: Int32Array, k: number, zOffset?: ArrayLike<number>, intercept: InterceptMode = 'free'): { C: number; losses: number[] } {
+  const losses = grid.map((C) => logLoss(crossValidatedProbabilities(X, y, d, C, fold, k, zOffset, intercept), y));
   let best = 0;
   for (let i = 1; i < grid.length; i++) if (losses[i] < losses[best] - 1e-12) best = i;
   return { C: grid[best], losses };

@@ -53,3 +53,24 @@ describe('cross-validation helpers', () => {
     expect(predictLogistic(m, [1, 0, 0, 0])).toBeGreaterThan(0.9);
   });
 });
+
+describe('offsets and intercept modes', () => {
+  it('with an offset and no intercept, the fit corrects the offset only where the features say so', () => {
+    const rnd = mulberry32(4);
+    const n = 200, d = 2;
+    const X = new Float64Array(n * d).map(() => rnd() * 2 - 1);
+    const offset = Array.from({ length: n }, () => 2 * rnd() - 1);
+    // labels follow the offset plus 3 × the first feature; the second is noise; no intercept in the truth
+    const y = offset.map((o, i) => (rnd() < 1 / (1 + Math.exp(-(o + 3 * X[i * d]))) ? 1 : 0));
+    const m = fitLogistic(X, y, d, 100, { offset, intercept: 'none' });
+    expect(m.intercept).toBe(0);
+    expect(m.coef[0]).toBeGreaterThan(1.5);
+    expect(Math.abs(m.coef[1])).toBeLessThan(0.8);
+    // a penalised intercept is pulled towards 0 compared with a free one on labels shifted by a constant
+    const shifted = offset.map((o, i) => (rnd() < 1 / (1 + Math.exp(-(o - 1.5 + 3 * X[i * d]))) ? 1 : 0));
+    const free = fitLogistic(X, shifted, d, 0.05, { offset, intercept: 'free' });
+    const pen = fitLogistic(X, shifted, d, 0.05, { offset, intercept: 'penalized' });
+    expect(free.intercept).toBeLessThan(pen.intercept);
+    expect(pen.intercept).toBeLessThanOrEqual(0);
+  });
+});
