@@ -13,7 +13,8 @@ import { createDetectionTable, type ReviewState } from '../web/core/types.ts';
 import { readText, writeAtomic } from './detect.ts';
 
 export const USAGE = `seamtally adapt --run DIR --reviews REVIEWS.geojson --out SCORER.json
-  A scorer adapted to this imagery from your reviews (DIR: the --out directory of a detect run; REVIEWS: lon/lat
+  A scorer adapted to this imagery from your reviews (DIR: the --out directory of a detect run made with --features,
+  or without it for a scorer on box sizes only; REVIEWS: lon/lat
   features with properties.review accepted | rejected | added, e.g. the page's detections export). Needs 10 accepted
   and 10 rejected detections of a class to adapt it. Use the scorer with seamtally detect --scorer SCORER.json.`;
 

@@ -1,5 +1,5 @@
 // `seamtally detect`: scenes of one date + AOIs + model → detections.geojson, counts.csv, counts.json (onnxruntime-node).
-import { closeSync, existsSync, mkdirSync, openSync, readFileSync, readSync, renameSync, statSync, writeFileSync } from 'node:fs';
+import { closeSync, existsSync, mkdirSync, openSync, readFileSync, readSync, renameSync, rmSync, statSync, writeFileSync } from 'node:fs';
 import { basename, join } from 'node:path';
 import { parseArgs } from 'node:util';
 import { parseAois, reprojectAoi, type AoiInCrs } from '../web/core/aoi.ts';
@@ -23,7 +23,7 @@ import { assertSomeValidPixels, readValidMask } from '../web/core/valid-mask.ts'
 import { openGeoTiffPath } from '../web/io/geotiff-source.ts';
 import { openNodeModel } from '../web/io/ort-node.ts';
 
-export const USAGE = 'Usage: seamtally detect SCENE.tif... --aoi AOI.geojson --model FILE.onnx --out DIR [--tile PX] [--overlap PX|auto] [--min-score S] [--date YYYY-MM-DD] [--threads N] [--bands R,G,B] [--scorer SCORER.json] [--quiet]';
+export const USAGE = 'Usage: seamtally detect SCENE.tif... --aoi AOI.geojson --model FILE.onnx --out DIR [--tile PX] [--overlap PX|auto] [--min-score S] [--date YYYY-MM-DD] [--threads N] [--bands R,G,B] [--features] [--scorer SCORER.json] [--quiet]';
 
 export interface DetectArgs {
   scenes: string[];
@@ -38,6 +38,8 @@ export interface DetectArgs {
   bands?: number[];
   /** A review-adapted scorer (seamtally adapt, or the page's export): counts use its scores. */
   scorer?: string;
+  /** Keep the model's features per detection (features.f32) for seamtally adapt. */
+  features: boolean;
   quiet: boolean;
 }
 
@@ -62,7 +64,7 @@ export function parseDetectArgs(argv: string[]): DetectArgs {
       options: {
         aoi: { type: 'string' }, model: { type: 'string' }, out: { type: 'string' }, tile: { type: 'string' },
         overlap: { type: 'string' }, 'min-score': { type: 'string' }, date: { type: 'string' }, threads: { type: 'string' },
-        bands: { type: 'string' }, scorer: { type: 'string' }, quiet: { type: 'boolean' },
+        bands: { type: 'string' }, scorer: { type: 'string' }, features: { type: 'boolean' }, quiet: { type: 'boolean' },
       },
     });
   } catch (err) {
@@ -88,7 +90,7 @@ export function parseDetectArgs(argv: string[]): DetectArgs {
   }
   return {
     scenes: parsed.positionals, aoi: v.aoi, model: v.model, out: v.out, tilePx: intArg(v.tile, 'tile', 16), overlapPx, minScore,
-    date: v.date, threads: intArg(v.threads, 'threads', 1) ?? 1, bands, scorer: v.scorer, quiet: v.quiet ?? false,
+    date: v.date, threads: intArg(v.threads, 'threads', 1) ?? 1, bands, scorer: v.scorer, features: v.features ?? false, quiet: v.quiet ?? false,
   };
 }
 
@@ -172,7 +174,9 @@ export async function run(argv: string[]): Promise<number> {
   }
   const aois = parseAois(readText(args.aoi, 'AOI file'));
   const modelBytes = new Uint8Array(readFileSync(args.model));
-  const model = await openNodeModel(modelBytes, sidecar, { threads: args.threads, tilePx: args.tilePx });
+  // the model's features are fetched only when kept (--features) or used by the scorer (costly to copy out)
+  const withFeatures = args.features || (scorer?.modelFeatureDim ?? 0) > 0;
+  const model = await openNodeModel(modelBytes, sidecar, { threads: args.threads, tilePx: args.tilePx, withFeatures });
   const sources: SceneSource[] = [];
   try {
     for (const p of args.scenes) sources.push(await openScene(p));
@@ -219,8 +223,9 @@ export async function run(argv: string[]): Promise<number> {
     writeAtomic(join(args.out, 'detections.geojson'), JSON.stringify(geojson) + '\n');
     writeAtomic(join(args.out, 'counts.csv'), countsToCsv(rows));
     // the model's features at each detection (rows in detections.geojson order), for seamtally adapt
-    const featureMeta = detections.features && detections.featureDim ? { file: 'features.f32', dim: detections.featureDim, rows: detections.count } : null;
+    const featureMeta = args.features && detections.features && detections.featureDim ? { file: 'features.f32', dim: detections.featureDim, rows: detections.count } : null;
     if (featureMeta) writeAtomic(join(args.out, 'features.f32'), Buffer.from(detections.features!.buffer, detections.features!.byteOffset, detections.count * featureMeta.dim * 4));
+    else rmSync(join(args.out, 'features.f32'), { force: true }); // none from an earlier run of the same folder
     const plans = pipelines.map((p) => ({ scene: p.source.info.name, tilePx: p.plan.tilePx, overlapPx: p.plan.overlapPx, tiles: p.plan.tiles.length, overheadRatio: p.plan.overheadRatio, bands: p.bands.indices.map((b) => b + 1), stretch: p.stretch }));
     const timing = { tilesRun, msPerTile: tilesRun ? { read: totals.readMs / tilesRun, resampleNormalise: totals.resampleMs / tilesRun, infer: totals.inferMs / tilesRun, decode: totals.decodeMs / tilesRun } : null, mergeMs, totalMs: performance.now() - started };
     // The same notes the app's tally shows: resolution caveats at the coarsest scene's GSD, upsampling, low sun.

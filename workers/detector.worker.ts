@@ -3,7 +3,7 @@ import { expose, transfer } from 'comlink';
 import { toErrorInfo, SeamtallyError, type Result } from '../web/core/errors.ts';
 import { crsDefinition } from '../web/core/crs.ts';
 import { assertSomeValidPixels, readValidMask } from '../web/core/valid-mask.ts';
-import { validateSidecar, checkModelIO, type ModelSidecar } from '../web/core/model-contract.ts';
+import { validateSidecar, checkModelIO, fetchedOutputNames, type ModelSidecar } from '../web/core/model-contract.ts';
 import { inferTile, readAndFillTile, type FilledTile, type InferFn, type ScenePipeline, type TileScratch } from '../web/core/pipeline.ts';
 import { modelLoadFailure } from '../web/core/model-load-failure.ts';
 import { createOrtModel, crashInferenceWorkerForTest, type OrtModel } from './ort-session.ts';
@@ -70,7 +70,8 @@ const api = {
     const sidecar = validateSidecar(sidecarValue);
     const byteLength = bytes.byteLength; // the bytes are transferred to the inference worker
     let ort: OrtModel;
-    try { ort = await createOrtModel(bytes, opts); } catch (err) { throw modelLoadFailure(err, byteLength); }
+    // the page does not keep the model's features (review adaptation is not offered in the page yet)
+    try { ort = await createOrtModel(bytes, { ...opts, fetches: fetchedOutputNames(sidecar, false) }); } catch (err) { throw modelLoadFailure(err, byteLength); }
     try { checkModelIO(sidecar, ort.io); } catch (err) { await ort.release(); throw err; }
     await model?.ort.release();
     model = { ort, sidecar, id: ++modelSeq };

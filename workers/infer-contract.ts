@@ -23,7 +23,7 @@ export interface InferRunResult {
 
 export interface InferApi {
   /** Create a session (earlier ones stay until released). Failures come back as the raw onnxruntime message. */
-  load(modelBytes: ArrayBuffer, opts: { numThreads: number }): Promise<Result<InferLoadInfo>>;
+  load(modelBytes: ArrayBuffer, opts: { numThreads: number; fetches?: string[] }): Promise<Result<InferLoadInfo>>;
   /**
    * Run the float32 NCHW input held in the first `length` values of `inputBuffer` (transferred in, and back in the
    * result, so the caller reuses it).

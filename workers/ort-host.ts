@@ -28,7 +28,7 @@ export interface OrtHost {
 }
 
 /** Create a session from ONNX bytes (WASM execution provider). */
-export async function createOrtHost(modelBytes: ArrayBuffer, opts: { numThreads: number }): Promise<OrtHost> {
+export async function createOrtHost(modelBytes: ArrayBuffer, opts: { numThreads: number; fetches?: string[] }): Promise<OrtHost> {
   const numThreads = configureOnce(opts.numThreads);
   const session = await ort.InferenceSession.create(new Uint8Array(modelBytes), {
     executionProviders: ['wasm'],
@@ -47,7 +47,8 @@ export async function createOrtHost(modelBytes: ArrayBuffer, opts: { numThreads:
     numThreads,
     async run(inputName, data, shape) {
       const feeds = { [inputName]: new ort.Tensor('float32', data, shape) };
-      const out = await session.run(feeds);
+      // only the outputs the run needs (the features output is costly to copy out of the wasm heap)
+      const out = opts.fetches ? await session.run(feeds, opts.fetches) : await session.run(feeds);
       const res: Record<string, InferOutput> = {};
       for (const [name, t] of Object.entries(out)) {
         const d = t.data as Float32Array;

@@ -49,7 +49,7 @@ export function crashInferenceWorkerForTest(): void {
 }
 
 /** Create a session from ONNX bytes in the inference worker. Throws the raw onnxruntime message on failure. */
-export async function createOrtModel(modelBytes: ArrayBuffer, opts: { numThreads: number }): Promise<OrtModel> {
+export async function createOrtModel(modelBytes: ArrayBuffer, opts: { numThreads: number; fetches?: string[] }): Promise<OrtModel> {
   const w = inference();
   const loaded = await Promise.race([w.api.load(transfer(modelBytes, [modelBytes]), opts), w.lost]);
   if (!loaded.ok) throw new Error(loaded.error.message);

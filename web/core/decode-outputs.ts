@@ -103,7 +103,8 @@ function decodeHeatmap(sc: ModelSidecar, outputs: Record<string, TensorLike>, mi
   const rows = new Rows();
   const d = hm.data;
   const peaks: number[] = [];
-  const feat = o.features === null ? null : tensor(outputs, o.features, 'output.features', [1, null, H, W]);
+  // the features output when the run fetched it (fetchedOutputNames: only runs that keep features do)
+  const feat = o.features === null || !outputs[o.features] ? null : tensor(outputs, o.features, 'output.features', [1, null, H, W]);
   const F = feat ? feat.dims[1] : 0;
   if (feat && !(F >= 1 && F <= MAX_FEATURE_DIM)) {
     throw new SeamtallyError('model-mismatch', `The model's output "${o.features}" (sidecar output.features) has ${F} channels; the contract allows 1 to ${MAX_FEATURE_DIM}. Use the sidecar written for this .onnx file.`, { field: 'output.features' });

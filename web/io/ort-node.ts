@@ -4,7 +4,7 @@
 import { Worker } from 'node:worker_threads';
 import * as ort from 'onnxruntime-node';
 import { SeamtallyError } from '../core/errors.ts';
-import { checkModelIO, type ModelDim, type ModelSidecar } from '../core/model-contract.ts';
+import { checkModelIO, fetchedOutputNames, type ModelDim, type ModelSidecar } from '../core/model-contract.ts';
 import type { InferFn, TileScratch } from '../core/pipeline.ts';
 import type { TensorLike } from '../core/decode-outputs.ts';
 import { modelLoadFailure } from '../core/model-load-failure.ts';
@@ -22,6 +22,8 @@ export interface NodeModelOptions {
    * False: on the calling thread, no copy.
    */
   offThread?: boolean;
+  /** Fetch the model's features output too (default false: it is costly and only review adaptation uses it). */
+  withFeatures?: boolean;
 }
 
 /** What the CLI needs of a session, on this thread or on its own. */
@@ -30,7 +32,7 @@ interface SessionLike {
   outputNames: readonly string[];
   inputMetadata: readonly MetaLike[];
   outputMetadata: readonly MetaLike[];
-  run(inputName: string, input: Float32Array, dims: readonly number[], lend?: TileScratch): Promise<Array<{ name: string; type: string; data: unknown; dims: readonly number[] }>>;
+  run(inputName: string, input: Float32Array, dims: readonly number[], lend?: TileScratch, fetches?: readonly string[]): Promise<Array<{ name: string; type: string; data: unknown; dims: readonly number[] }>>;
   release(): Promise<void>;
 }
 interface MetaLike { name: string; isTensor: boolean; shape: ReadonlyArray<number | string> }
@@ -64,8 +66,9 @@ export async function openNodeModel(modelBytes: Uint8Array, sidecar: ModelSideca
     throw err;
   }
   const inputName = sidecar.input.name;
+  const fetches = fetchedOutputNames(sidecar, opts.withFeatures ?? false);
   const infer: InferFn = async (input, shape, lend) => {
-    const res = await session.run(inputName, input, shape, lend);
+    const res = await session.run(inputName, input, shape, lend, fetches);
     const out: Record<string, TensorLike> = {};
     for (const t of res) {
       if (t.type !== 'float32') {
@@ -99,8 +102,9 @@ async function openLocalSession(modelBytes: Uint8Array, threads: number): Promis
   return {
     inputNames: session.inputNames, outputNames: session.outputNames,
     inputMetadata: meta(session.inputMetadata), outputMetadata: meta(session.outputMetadata),
-    async run(inputName, input, dims) {
-      const res = await session.run({ [inputName]: new ort.Tensor('float32', input, [...dims]) });
+    async run(inputName, input, dims, _lend, fetches) {
+      const feeds = { [inputName]: new ort.Tensor('float32', input, [...dims]) };
+      const res = fetches ? await session.run(feeds, [...fetches]) : await session.run(feeds);
       return Object.entries(res).map(([name, t]) => ({ name, type: t.type, data: t.data, dims: t.dims }));
     },
     release: () => session.release(),
@@ -162,7 +166,7 @@ async function openThreadSession(modelBytes: Uint8Array, threads: number): Promi
   let closed = false;
   return {
     inputNames: m.inputNames, outputNames: m.outputNames, inputMetadata: m.inputMetadata, outputMetadata: m.outputMetadata,
-    async run(inputName, input, dims, lend) {
+    async run(inputName, input, dims, lend, fetches) {
       if (closed) throw new SeamtallyError('cancelled', 'The model was closed.');
       if (failure) throw failure;
       // the scratch's own buffer when it is lent and `input` is its start (never shared memory: it cannot be transferred)
@@ -178,7 +182,7 @@ async function openThreadSession(modelBytes: Uint8Array, threads: number): Promi
       const id = nextId++;
       const res = await new Promise<FromThread & { kind: 'result' }>((resolve, reject) => {
         pending.set(id, { resolve, reject, lent });
-        worker.postMessage({ kind: 'run', id, inputName, buffer, length: input.length, dims: [...dims] }, [buffer]);
+        worker.postMessage({ kind: 'run', id, inputName, buffer, length: input.length, dims: [...dims], fetches: fetches ? [...fetches] : null }, [buffer]);
       });
       return res.outputs;
     },
