@@ -10,6 +10,7 @@ import { createTransform, parseEpsgName } from '../web/core/crs.ts';
 import { boxFromCorners } from '../web/core/box-mapping.ts';
 import { trainScorer } from '../web/core/adapted-scorer.ts';
 import { createDetectionTable, type ReviewState } from '../web/core/types.ts';
+import { concatDetectionTables } from '../web/core/seam-merge.ts';
 import { readText, writeAtomic } from './detect.ts';
 
 export const USAGE = `seamtally adapt --run DIR --reviews REVIEWS.geojson --out SCORER.json
@@ -79,12 +80,12 @@ export async function run(argv: string[]): Promise<number> {
     }
     if (best < 0) unmatched++; else review[best] = state;
   }
-  // added objects: rows of their own (no model features, so they count only as misses in the gain)
-  const withAdded = createDetectionTable(t.frameCrs, t.count + added.length);
-  for (const col of ['cxM', 'cyM', 'lengthM', 'widthM', 'angleRad', 'score', 'classIdx', 'sceneIdx'] as const) (withAdded[col] as Float64Array).set(t[col] as Float64Array);
-  added.forEach((k, j) => { withAdded.classIdx[t.count + j] = k; withAdded.score[t.count + j] = 1; });
-  withAdded.count = t.count + added.length;
-  if (t.features) { withAdded.features = new Float32Array(withAdded.count * t.featureDim!).fill(NaN); withAdded.features.set(t.features); withAdded.featureDim = t.featureDim; }
+  // added objects: rows of their own after the detections (no model features: NaN rows, so they count only as
+  // misses in the gain), as the page's reviewed table adds them
+  const addedRows = createDetectionTable(t.frameCrs, added.length);
+  added.forEach((k, j) => { addedRows.classIdx[j] = k; addedRows.score[j] = 1; });
+  addedRows.count = added.length;
+  const withAdded = concatDetectionTables([t, addedRows]);
   const scorer = trainScorer({ table: withAdded, review: [...review, ...added.map(() => 'added' as const)], classes, model: counts.modelId ?? counts.model ?? 'unknown', threshold, seed: v.seed ? Number(v.seed) : 1 });
   writeAtomic(v.out, JSON.stringify(scorer, null, 1) + '\n');
   const pct = (x: number | null) => (x === null ? '–' : `${Math.round(100 * x)} %`);

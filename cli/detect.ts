@@ -16,8 +16,7 @@ import { prepareScene, runFrameEpsg, runScene, type ScenePipeline, type TileTimi
 import { COUNTING_RULE } from '../web/core/point-in-polygon.ts';
 import type { SceneSource } from '../web/core/scene-source.ts';
 import { mergeDetectionTables } from '../web/core/seam-merge.ts';
-import { applyScorer, parseScorer, type ScorerJson } from '../web/core/adapted-scorer.ts';
-import { createDetectionTable } from '../web/core/types.ts';
+import { applyScorer, checkScorerModel, parseScorer, type ScorerJson } from '../web/core/adapted-scorer.ts';
 import type { DetectionTable } from '../web/core/types.ts';
 import { assertSomeValidPixels, readValidMask } from '../web/core/valid-mask.ts';
 import { openGeoTiffPath } from '../web/io/geotiff-source.ts';
@@ -167,7 +166,7 @@ export async function run(argv: string[]): Promise<number> {
   const sidecar = loadSidecar(args.model);
   let scorer: ScorerJson | null = null;
   if (args.scorer) {
-    try { scorer = parseScorer(readText(args.scorer, 'scorer file')); applyScorer(scorer, createDetectionTable('EPSG:4326', 0), sidecar.classes, modelId(sidecar, args.model)); } catch (err) {
+    try { scorer = parseScorer(readText(args.scorer, 'scorer file')); checkScorerModel(scorer, modelId(sidecar, args.model)); } catch (err) {
       if (err instanceof SeamtallyError) throw err;
       throw new SeamtallyError('bad-argument', `${(err as Error).message}`);
     }

@@ -28,19 +28,22 @@ export function demoChoice(): DemoChoice {
   return v === 'open' || v === 'closed' ? v : null;
 }
 
+/** A scene URL as the page resolves it (demo manifests give relative ones). */
+const absolute = (url: string): string => new URL(url, location.href).href;
+
 function removedUrls(): string[] {
   try { return JSON.parse(read(REMOVED_KEY) ?? '[]') as string[]; } catch { return []; }
 }
 
 /** The demo's scene URLs as the page opens them (absolute). */
 function demoUrls(demo: DemoManifest): string[] {
-  return demo.scenes.map((s) => new URL(s.url, location.href).href);
+  return demo.scenes.map((s) => absolute(s.url));
 }
 
 /** Remember that a demo scene was removed (called for every removed URL scene; others are ignored on reopen). */
 export function rememberRemovedScene(url: string): void {
   const all = new Set(removedUrls());
-  all.add(new URL(url, location.href).href);
+  all.add(absolute(url));
   write(REMOVED_KEY, JSON.stringify([...all]));
 }
 
@@ -50,7 +53,7 @@ export class DemoOffer {
   /** True while any of the demo's scenes is open. */
   isOpen(): boolean {
     const urls = new Set(demoUrls(this.demo));
-    return this.state.scenes.some((s) => s.origin.kind === 'url' && urls.has(new URL(s.origin.url, location.href).href));
+    return this.state.scenes.some((s) => s.origin.kind === 'url' && urls.has(absolute(s.origin.url)));
   }
 
   /**
@@ -61,7 +64,7 @@ export class DemoOffer {
     write(CHOICE_KEY, 'open');
     if (all) write(REMOVED_KEY, null);
     const removed = new Set(removedUrls());
-    const scenes = this.demo.scenes.filter((s) => !removed.has(new URL(s.url, location.href).href));
+    const scenes = this.demo.scenes.filter((s) => !removed.has(absolute(s.url)));
     const firstTime = read(AREAS_KEY) === null;
     await openDemo(this.state, this.svc, { ...this.demo, scenes }, firstTime || all);
     write(AREAS_KEY, 'imported');
@@ -72,7 +75,7 @@ export class DemoOffer {
     write(CHOICE_KEY, 'closed');
     const urls = new Set(demoUrls(this.demo));
     for (const s of [...this.state.scenes]) {
-      if (s.origin.kind === 'url' && urls.has(new URL(s.origin.url, location.href).href)) await removeScene(this.state, this.svc, s.fingerprint);
+      if (s.origin.kind === 'url' && urls.has(absolute(s.origin.url))) await removeScene(this.state, this.svc, s.fingerprint);
     }
     for (const id of demoAreaIds) if (this.state.aois.some((a) => a.id === id)) await deleteArea(this.state, id);
   }

@@ -89,7 +89,7 @@ async function main(): Promise<void> {
     layout.map.dataset.resolution = String(v.getResolution() ?? '');
   });
   // A scene opened elsewhere switches the map into its CRS: redraw areas and detections in the new projection.
-  view.map.on('change:view', () => { aoiLayer.render(state.aois); detections.rebuild(); state.events.emit('samples-changed'); layout.map.dataset.projection = view.projectionCode(); });
+  view.map.on('change:view', () => { aoiLayer.render(state.aois); detections.rebuild(); layout.map.dataset.projection = view.projectionCode(); });
 
   await restoreKeptWork(state);
   const demo = await fetchManifest(config.manifestUrl);

@@ -234,5 +234,7 @@ export function mountReviewPanel(state: AppState, el: HTMLElement, svc: ReviewSe
   // Only while the tab is shown (it sorts every candidate detection); shown later, it renders then.
   const update = renderWhenShown(el, render);
   for (const ev of ['results-changed', 'review-changed', 'threshold-changed', 'shown-date-changed', 'model-changed', 'samples-changed', 'aois-changed'] as const) state.events.on(ev, update);
+  // the sample's cells are drawn in the view's projection: redraw them when the map changes CRS (the tally is unchanged)
+  svc.view.map.on('change:view', update);
   update();
 }

@@ -6,7 +6,8 @@ import { aoiSignature, sampleKey } from './state.ts';
 import { reviewedTable } from './date-table.ts';
 import { setReview } from './review-actions.ts';
 import { designSample, cellIdAt, type CountedPoint } from '../core/check-sample.ts';
-import { reprojectAoi, type AoiInCrs } from '../core/aoi.ts';
+import type { AoiInCrs } from '../core/aoi.ts';
+import { aoiInFrameOf } from './tally.ts';
 import { parseEpsgName } from '../core/crs.ts';
 import { prepareMultiPolygon } from '../core/point-in-polygon.ts';
 import { toErrorInfo } from '../core/errors.ts';
@@ -21,10 +22,10 @@ async function keep(state: AppState, rec: SampleRecord): Promise<void> {
   try { await state.store?.putSample(rec); } catch (err) { fail(state, err); }
 }
 
-/** The AOI in the date's metric frame. */
+/** The AOI in the date's metric frame (the tally's cached reprojection). */
 export function aoiInFrame(state: AppState, aoiId: string, d: DateDetections): AoiInCrs | null {
   const aoi = state.aois.find((a) => a.id === aoiId);
-  return aoi ? reprojectAoi(aoi, parseEpsgName(d.table.frameCrs)) : null;
+  return aoi ? aoiInFrameOf(aoi, parseEpsgName(d.table.frameCrs)) : null;
 }
 
 /** A random seed, recorded with the sample so that it can be drawn again. */
@@ -38,7 +39,7 @@ export async function drawSample(state: AppState, aoiId: string, dateIso: string
   const aoi = state.aois.find((a) => a.id === aoiId);
   const classCount = state.model?.sidecar.classes.length ?? 0;
   if (!d || !aoi || classCount === 0) return null;
-  const inFrame = reprojectAoi(aoi, parseEpsgName(d.table.frameCrs));
+  const inFrame = aoiInFrame(state, aoiId, d)!;
   const t = d.table;
   const points: CountedPoint[] = [];
   for (let i = 0; i < t.count; i++) if (t.score[i] >= state.minScore) points.push({ xM: t.cxM[i], yM: t.cyM[i], classIdx: t.classIdx[i] });

@@ -13,6 +13,10 @@ import type { SampleRecord } from './state.ts';
 import { createTransform, parseEpsgName } from '../core/crs.ts';
 import { clipPolygon } from '../core/oriented-box.ts';
 import type { MultiPolygonRings } from '../core/point-in-polygon.ts';
+import { flatRing, type SampleCell } from '../core/check-sample.ts';
+
+/** The cell's four corners in its frame, counter-clockwise. */
+const cellCorners = (c: SampleCell): number[][] => [[c.x0M, c.y0M], [c.x1M, c.y0M], [c.x1M, c.y1M], [c.x0M, c.y1M]];
 
 const styles = {
   todo: new Style({ stroke: new Stroke({ color: '#ffffff', width: 1.5, lineDash: [4, 3] }) }),
@@ -31,18 +35,24 @@ export class SampleLayer {
     } }));
   }
 
+  /** Frame metres of the sample's frame → the view's projection (through lon/lat). */
+  private toViewOf(rec: SampleRecord): (p: readonly number[]) => number[] {
+    const toLonLat = createTransform(parseEpsgName(rec.frameCrs), 4326);
+    const code = this.view.projectionCode();
+    return ([x, y]) => transform([...toLonLat([x, y])], 'EPSG:4326', code);
+  }
+
   /** Draw the sample's cells (or nothing), marking `currentCellId`; `aoiPolygons`: the area in the sample's frame. */
   render(rec: SampleRecord | null, currentCellId: string | null, aoiPolygons: MultiPolygonRings | null = null): void {
     this.source.clear();
     if (!rec) return;
-    const toLonLat = createTransform(parseEpsgName(rec.frameCrs), 4326);
-    const code = this.view.projectionCode();
+    const toView = this.toViewOf(rec);
     const byId = new Map(rec.design.cells.map((c) => [c.id, c]));
     rec.design.sample.forEach((id, k) => {
       const c = byId.get(id);
       if (!c) return;
-      const toView = ([x, y]: readonly number[]) => transform([...toLonLat([x, y])], 'EPSG:4326', code);
-      const ring = [[c.x0M, c.y0M], [c.x1M, c.y0M], [c.x1M, c.y1M], [c.x0M, c.y1M], [c.x0M, c.y0M]].map(toView);
+      const ring = cellCorners(c).map(toView);
+      ring.push(ring[0]);
       const state = id === currentCellId ? 'current' : rec.checked.includes(id) ? 'checked' : 'todo';
       const full = c.areaM2 >= (c.x1M - c.x0M) * (c.y1M - c.y0M) * (1 - 1e-9);
       if (full || !aoiPolygons) {
@@ -51,11 +61,10 @@ export class SampleLayer {
       }
       this.source.addFeature(new Feature({ geometry: new Polygon([ring]), state: 'square', label: String(k + 1) }));
       // the counted part: each ring of the area clipped to the square (display only; the count uses the AOI rule)
-      const box = [c.x0M, c.y0M, c.x1M, c.y0M, c.x1M, c.y1M, c.x0M, c.y1M];
+      const box = cellCorners(c).flat();
       for (const poly of aoiPolygons) {
         for (const r of poly) {
-          const flat = r.flatMap((p) => [p[0], p[1]]);
-          const clipped = clipPolygon(flat.length >= 4 && flat[0] === flat[flat.length - 2] && flat[1] === flat[flat.length - 1] ? flat.slice(0, -2) : flat, box);
+          const clipped = clipPolygon(flatRing(r), box);
           if (clipped.length < 6) continue;
           const pts: number[][] = [];
           for (let i = 0; i < clipped.length; i += 2) pts.push(toView([clipped[i], clipped[i + 1]]));
@@ -70,9 +79,7 @@ export class SampleLayer {
   extentOf(rec: SampleRecord, cellId: string): [number, number, number, number] | null {
     const c = rec.design.cells.find((x) => x.id === cellId);
     if (!c) return null;
-    const toLonLat = createTransform(parseEpsgName(rec.frameCrs), 4326);
-    const code = this.view.projectionCode();
-    const pts = [[c.x0M, c.y0M], [c.x1M, c.y0M], [c.x1M, c.y1M], [c.x0M, c.y1M]].map(([x, y]) => transform([...toLonLat([x, y])], 'EPSG:4326', code));
+    const pts = cellCorners(c).map(this.toViewOf(rec));
     const xs = pts.map((p) => p[0]), ys = pts.map((p) => p[1]);
     return [Math.min(...xs), Math.min(...ys), Math.max(...xs), Math.max(...ys)];
   }

@@ -15,11 +15,21 @@ export type { DateTally, TallyRow };
 /** AOIs reprojected into a frame and their geodesic areas, kept per AOI record (records are replaced on edit). */
 const frameCache = new WeakMap<AoiRecord, Map<number, { inFrame: AoiInCrs; areaM2: number }>>();
 
-function countAoi(aoi: AoiRecord, frameEpsg: number, scenes: SceneEntry[], coverage: CoverageService): CountAoi {
+function framed(aoi: AoiRecord, frameEpsg: number): { inFrame: AoiInCrs; areaM2: number } {
   let m = frameCache.get(aoi);
   if (!m) { m = new Map(); frameCache.set(aoi, m); }
   let c = m.get(frameEpsg);
   if (!c) { c = { inFrame: reprojectAoi(aoi, frameEpsg), areaM2: multiPolygonAreaM2(aoi.polygonsLonLat) }; m.set(frameEpsg, c); }
+  return c;
+}
+
+/** An AOI in a metric frame (cached per AOI record and frame; the tally, the samples and the map share it). */
+export function aoiInFrameOf(aoi: AoiRecord, frameEpsg: number): AoiInCrs {
+  return framed(aoi, frameEpsg).inFrame;
+}
+
+function countAoi(aoi: AoiRecord, frameEpsg: number, scenes: SceneEntry[], coverage: CoverageService): CountAoi {
+  const c = framed(aoi, frameEpsg);
   return { aoi: c.inFrame, areaM2: c.areaM2, coverage: coverage.get(aoi, c.inFrame, scenes) ?? NaN };
 }
 

@@ -160,18 +160,26 @@ export function parseScorer(text: string): ScorerJson {
  * uses them, keep the detector's score). Throws a sentence when the scorer belongs to another detector.
  */
 export function applyScorer(s: ScorerJson, t: DetectionTable, classes: readonly string[], model: string): Float32Array {
-  if (s.model !== model) throw new Error(`This scorer was adapted for the detector "${s.model}", not "${model}": adapt one for this detector, or switch detector.`);
+  checkScorerModel(s, model);
   const out = Float32Array.from(t.score.subarray(0, t.count));
-  const byIdx = classes.map((c) => s.perClass[c] ?? null);
+  const byIdx = classes.map((c) => {
+    const cs = s.perClass[c];
+    return cs ? { cs, m: { coef: Float64Array.from(cs.coef), intercept: cs.intercept, C: cs.C } } : null;
+  });
   for (let i = 0; i < t.count; i++) {
-    const cs = byIdx[t.classIdx[i]];
-    if (!cs) continue;
+    const k = byIdx[t.classIdx[i]];
+    if (!k) continue;
     const f = featureRow(t, i, s.modelFeatureDim);
     if (!f) continue;
-    const x = f.map((v, j) => (v - cs.mean[j]) / cs.std[j]);
-    out[i] = predictLogistic({ coef: Float64Array.from(cs.coef), intercept: cs.intercept, C: cs.C }, x, 0, logit(t.score[i]));
+    const x = f.map((v, j) => (v - k.cs.mean[j]) / k.cs.std[j]);
+    out[i] = predictLogistic(k.m, x, 0, logit(t.score[i]));
   }
   return out;
+}
+
+/** Throw a sentence when the scorer was adapted for another detector than `model` ("name version"). */
+export function checkScorerModel(s: Pick<ScorerJson, 'model'>, model: string): void {
+  if (s.model !== model) throw new Error(`This scorer was adapted for the detector "${s.model}", not "${model}": adapt one for this detector, or switch detector.`);
 }
 
 /**

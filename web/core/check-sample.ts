@@ -52,7 +52,7 @@ export interface SampleDesign {
 export interface CountedPoint { xM: number; yM: number; classIdx: number }
 
 /** A ring as oriented-box.ts's flat polygon (closing vertex dropped). */
-function flat(ring: readonly (readonly [number, number])[]): number[] {
+export function flatRing(ring: readonly (readonly [number, number])[]): number[] {
   const n = ring.length > 1 && ring[0][0] === ring[ring.length - 1][0] && ring[0][1] === ring[ring.length - 1][1] ? ring.length - 1 : ring.length;
   const out: number[] = [];
   for (let i = 0; i < n; i++) out.push(ring[i][0], ring[i][1]);
@@ -63,7 +63,7 @@ function flat(ring: readonly (readonly [number, number])[]): number[] {
 export function areaInBox(polygons: MultiPolygonRings, x0: number, y0: number, x1: number, y1: number): number {
   const box = [x0, y0, x1, y0, x1, y1, x0, y1]; // counter-clockwise, convex: the clip window
   let a = 0;
-  for (const poly of polygons) poly.forEach((ring, k) => { const c = polygonArea(clipPolygon(flat(ring), box)); a += k === 0 ? c : -c; });
+  for (const poly of polygons) poly.forEach((ring, k) => { const c = polygonArea(clipPolygon(flatRing(ring), box)); a += k === 0 ? c : -c; });
   return Math.max(0, a);
 }
 
@@ -92,7 +92,7 @@ export function designSample(polygons: MultiPolygonRings, points: readonly Count
   const mp = prepareMultiPolygon(polygons);
   const { minX, minY, maxX, maxY } = mp.bbox;
   let areaM2 = 0;
-  for (const poly of polygons) poly.forEach((ring, k) => { areaM2 += (k === 0 ? 1 : -1) * polygonArea(flat(ring)); });
+  for (const poly of polygons) poly.forEach((ring, k) => { areaM2 += (k === 0 ? 1 : -1) * polygonArea(flatRing(ring)); });
   const inAoi = points.filter((p) => mp.contains(p.xM, p.yM));
   const side = opts.cellSizeM ?? cellSizeFor(areaM2, inAoi.length);
   const gx0 = Math.floor(minX / side) * side;
