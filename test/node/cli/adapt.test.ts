@@ -6,8 +6,8 @@
 import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { beforeAll, describe, expect, it, vi } from 'vitest';
-import { main } from '../../../cli/main.ts';
+import { beforeAll, describe, expect, it } from 'vitest';
+import { runCli } from '../../helpers/cli.ts';
 import { applyScorer, parseScorer } from '../../../web/core/adapted-scorer.ts';
 import { createDetectionTable } from '../../../web/core/types.ts';
 import { makeBlobScenes, type BlobScenes } from '../../fixtures/blob-scenes.ts';
@@ -17,11 +17,7 @@ const dir = mkdtempSync(join(tmpdir(), 'seamtally-adapt-'));
 let fx: BlobScenes;
 const runDir = join(dir, 'run');
 
-async function cli(args: string[]): Promise<{ rc: number; err: string }> {
-  let err = '';
-  const spy = vi.spyOn(process.stderr, 'write').mockImplementation((chunk: string | Uint8Array) => { err += String(chunk); return true; });
-  try { return { rc: await main(args), err }; } finally { spy.mockRestore(); }
-}
+const cli = (args: string[]) => runCli(args);
 
 type Fc = { features: Array<{ geometry: unknown; properties: Record<string, unknown> }> };
 

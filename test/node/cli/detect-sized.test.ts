@@ -3,8 +3,8 @@
 import { copyFileSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { beforeAll, describe, expect, it, vi } from 'vitest';
-import { main } from '../../../cli/main.ts';
+import { beforeAll, describe, expect, it } from 'vitest';
+import { runCli } from '../../helpers/cli.ts';
 import { createTransform } from '../../../web/core/crs.ts';
 import { planTiles } from '../../../web/core/tiling.ts';
 import { makeBlobScenes, SQUARE_M, type BlobScenes } from '../../fixtures/blob-scenes.ts';
@@ -20,11 +20,7 @@ beforeAll(() => {
   writeFileSync(join(dir, 'sized-fixture.model.json'), JSON.stringify({ ...sc, maxTilePx: 192, tileAlignPx: 8 }));
 });
 
-async function cli(args: string[]): Promise<{ rc: number; err: string }> {
-  let err = '';
-  const spy = vi.spyOn(process.stderr, 'write').mockImplementation((chunk: string | Uint8Array) => { err += String(chunk); return true; });
-  try { return { rc: await main(['detect', ...args]), err }; } finally { spy.mockRestore(); }
-}
+const cli = (args: string[]) => runCli(['detect', ...args]);
 
 /** Detected centres in EPSG:32632 (mean of each box polygon's 4 corners). */
 function detectedCentres(out: string): [number, number][] {

@@ -6,7 +6,7 @@ import { copyFileSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs'
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterEach, beforeAll, describe, expect, it, vi } from 'vitest';
-import { main } from '../../../cli/main.ts';
+import { runCli } from '../../helpers/cli.ts';
 import { createTransform } from '../../../web/core/crs.ts';
 import { planTiles } from '../../../web/core/tiling.ts';
 import { makeBlobScenes, SQUARE_M, type BlobScenes } from '../../fixtures/blob-scenes.ts';
@@ -21,19 +21,7 @@ beforeAll(() => {
 });
 
 /** Run the CLI in-process through the dispatcher; returns exit code and what it wrote to stderr. */
-async function cli(args: string[]): Promise<{ rc: number; err: string }> {
-  let err = '';
-  const spy = vi.spyOn(process.stderr, 'write').mockImplementation((chunk: string | Uint8Array) => {
-    err += String(chunk);
-    return true;
-  });
-  try {
-    const rc = await main(['detect', ...args]);
-    return { rc, err };
-  } finally {
-    spy.mockRestore();
-  }
-}
+const cli = (args: string[]) => runCli(['detect', ...args]);
 
 afterEach(() => vi.restoreAllMocks());
 

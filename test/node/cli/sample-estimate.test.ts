@@ -6,8 +6,8 @@ import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import gjv from 'geojson-validation';
-import { beforeAll, describe, expect, it, vi } from 'vitest';
-import { main } from '../../../cli/main.ts';
+import { beforeAll, describe, expect, it } from 'vitest';
+import { runCli } from '../../helpers/cli.ts';
 import { designFor, readAois, readRunDir } from '../../../cli/checked-sample.ts';
 import { makeBlobScenes, type BlobScenes } from '../../fixtures/blob-scenes.ts';
 
@@ -16,11 +16,7 @@ const dir = mkdtempSync(join(tmpdir(), 'seamtally-sample-'));
 let fx: BlobScenes;
 const runDir = join(dir, 'run');
 
-async function cli(args: string[]): Promise<{ rc: number; err: string }> {
-  let err = '';
-  const spy = vi.spyOn(process.stderr, 'write').mockImplementation((chunk: string | Uint8Array) => { err += String(chunk); return true; });
-  try { return { rc: await main(args), err }; } finally { spy.mockRestore(); }
-}
+const cli = (args: string[]) => runCli(args);
 
 interface CellsFc { features: Array<{ properties: Record<string, unknown> & { id: string; detected: Record<string, number>; trueCounts?: Record<string, number> } }> }
 
