@@ -19,7 +19,7 @@ HERE = os.path.dirname(os.path.abspath(__file__))
 sys.path.insert(0, HERE)
 sys.path.insert(0, os.path.dirname(HERE))
 import real_eval  # noqa: E402
-from real_eval import PX_M, match, dist_to_poly  # noqa: E402
+from real_eval import PX_M, array_hit, match, vehicle_rules  # noqa: E402
 
 FLOOR = 0.05
 
@@ -68,22 +68,14 @@ def main():
         for j, img in enumerate(imgs):
             h, w = shapes[j]
             dets = detect_with_features(model, img[:h, :w].astype(np.float32), feats)
-            o = objs[objs[:, 0] == j][:, 1:]
-            veh = o[(o[:, 0] == 0) & (o[:, 6] > 0)]
-            ign = o[(o[:, 0] == 0) & (o[:, 6] == 0)]
-            if kind == "drone":
-                grow = 0.5 / PX_M
-                hit = lambda k, x, y: abs(x - veh[k, 1]) <= veh[k, 3] / 2 + grow and abs(y - veh[k, 2]) <= veh[k, 4] / 2 + grow  # noqa: E731
-            else:
-                hit = lambda k, x, y: np.hypot(x - veh[k, 1], y - veh[k, 2]) <= 1.5 / PX_M  # noqa: E731
-            ignore = lambda x, y: bool(len(ign)) and bool(((abs(x - ign[:, 1]) <= ign[:, 3] / 2) & (abs(y - ign[:, 2]) <= ign[:, 4] / 2)).any())  # noqa: E731
+            veh, hit, ignore = vehicle_rules(kind, objs[objs[:, 0] == j][:, 1:])
             arr = np.array([[r[0], r[1], r[2]] for r in dets[0]]).reshape(-1, 3)
             lab = match(arr, hit, len(veh), ignore)
             per_class["vehicle"].append({"truth": int(len(veh)), "dets": [r + [int(l)] for r, l in zip(dets[0], lab)]})
             if kind == "roofs":
                 pj = [p for m, p in polys if m == j]
                 arr = np.array([[r[0], r[1], r[2]] for r in dets[1]]).reshape(-1, 3)
-                lab = match(arr, lambda k, x, y: dist_to_poly(x, y, pj[k]) <= 1.0 / PX_M, len(pj))
+                lab = match(arr, array_hit(pj), len(pj))
                 per_class["solar_panel"].append({"truth": len(pj), "dets": [r + [int(l)] for r, l in zip(dets[1], lab)]})
         for cls, images in per_class.items():
             if images:

@@ -101,6 +101,25 @@ def match(dets, hit, n_truth, ignore=lambda x, y: False):
     return res
 
 
+def vehicle_rules(kind, o):
+    """The vehicles of one image (objects `o` of that image) and the matching rules of LABELS.md:
+    (labelled vehicles, hit(k, x, y), ignore(x, y))."""
+    veh = o[(o[:, 0] == 0) & (o[:, 6] > 0)]
+    ign = o[(o[:, 0] == 0) & (o[:, 6] == 0)]
+    if kind == "drone":
+        grow = 0.5 / PX_M
+        hit = lambda k, x, y: abs(x - veh[k, 1]) <= veh[k, 3] / 2 + grow and abs(y - veh[k, 2]) <= veh[k, 4] / 2 + grow  # noqa: E731
+    else:
+        hit = lambda k, x, y: np.hypot(x - veh[k, 1], y - veh[k, 2]) <= 1.5 / PX_M  # noqa: E731
+    ignore = lambda x, y: bool(len(ign)) and bool(((abs(x - ign[:, 1]) <= ign[:, 3] / 2) & (abs(y - ign[:, 2]) <= ign[:, 4] / 2)).any())  # noqa: E731
+    return veh, hit, ignore
+
+
+def array_hit(pj):
+    """Matching rule for solar arrays: the detection lies within 1 m of the drawn polygon k."""
+    return lambda k, x, y: dist_to_poly(x, y, pj[k]) <= 1.0 / PX_M
+
+
 def evaluate(model, val_dir):
     """{set: {gsd: {class: {"scores", "ok", "truth", "perImage": [(scores, ok, truth)]}}}}"""
     out = {}
@@ -115,20 +134,12 @@ def evaluate(model, val_dir):
         for j, img in enumerate(imgs):
             h, w = shapes[j]
             dets = detect(model, img[:h, :w].astype(np.float32))
-            o = objs[objs[:, 0] == j][:, 1:]
-            veh = o[(o[:, 0] == 0) & (o[:, 6] > 0)]
-            ign = o[(o[:, 0] == 0) & (o[:, 6] == 0)]
-            if kind == "drone":
-                grow = 0.5 / PX_M
-                hit = lambda k, x, y: abs(x - veh[k, 1]) <= veh[k, 3] / 2 + grow and abs(y - veh[k, 2]) <= veh[k, 4] / 2 + grow  # noqa: E731
-            else:
-                hit = lambda k, x, y: np.hypot(x - veh[k, 1], y - veh[k, 2]) <= 1.5 / PX_M  # noqa: E731
-            ignore = lambda x, y: bool(len(ign)) and bool(((abs(x - ign[:, 1]) <= ign[:, 3] / 2) & (abs(y - ign[:, 2]) <= ign[:, 4] / 2)).any())  # noqa: E731
+            veh, hit, ignore = vehicle_rules(kind, objs[objs[:, 0] == j][:, 1:])
             r = match(dets[0], hit, len(veh), ignore)
             res["vehicle"].append((dets[0][:, 0], r, len(veh)))
             if kind == "roofs":
                 pj = [p for m, p in polys if m == j]
-                r = match(dets[1], lambda k, x, y: dist_to_poly(x, y, pj[k]) <= 1.0 / PX_M, len(pj))
+                r = match(dets[1], array_hit(pj), len(pj))
                 res["solar_panel"].append((dets[1][:, 0], r, len(pj)))
         out.setdefault(kind, {})[g] = res
     return out
