@@ -119,7 +119,7 @@ describe('estimatesForDesign', () => {
 
 describe('estimateChange', () => {
   const est = (count: number, se: number, df: number) => ({ count, se, df, ci95: [0, 0] as [number, number], cellsChecked: df + 3, detected: 0, precision: null, recall: null, method: '' });
-  it('equal SEs and df: Welch–Satterthwaite df = 2·df, t(0.975, 20) = 2.086 (printed t tables, e.g. Abramowitz & Stegun table 26.10)', () => {
+  it('equal SEs and df: Welch–Satterthwaite df = 2·df, t(0.975, 20) = 2.086 (printed t tables, e.g. Abramowitz & Stegun table 26.10; value from memory)', () => {
     const c = estimateChange(est(100, 1, 10), est(130, 1, 10));
     expect(c.change).toBe(30);
     expect(c.se).toBeCloseTo(Math.SQRT2, 12);
@@ -129,6 +129,6 @@ describe('estimateChange', () => {
   it('one date without spread: the other date alone sets df', () => {
     const c = estimateChange(est(100, 0, 4), est(90, 3, 6));
     expect(c.df).toBeCloseTo(6, 12);
-    expect(c.ci95[0]).toBeCloseTo(-10 - 2.447 * 3, 3); // t(0.975, 6) = 2.447 (printed tables)
+    expect(c.ci95[0]).toBeCloseTo(-10 - 2.447 * 3, 3); // t(0.975, 6) = 2.447 (printed t tables; value from memory)
   });
 });
