@@ -8,6 +8,7 @@ import { planRun, tileKey, type RunPlan } from './run-plan.ts';
 import type { RunRecord, TileRecord } from './store.ts';
 import type { TileTask } from '../../workers/contract.ts';
 import { toErrorInfo, fromErrorInfo } from '../core/errors.ts';
+import { tileCoreScenePx } from '../core/tiling.ts';
 
 const LIVE_MERGE_MS = 2000;
 /** Finished tiles are written to IndexedDB at most this long after they finish. */
@@ -51,8 +52,7 @@ export class RunController {
     const ps = this.plan?.dates.flatMap((d) => d.scenes).find((x) => x.scene.fingerprint === task.sceneKey);
     const tile = ps?.plan.tiles[task.tileIndex];
     if (ps && tile) {
-      const k = ps.plan.scale;
-      const box = { minXPx: tile.corePx.minXPx / k, minYPx: tile.corePx.minYPx / k, maxXPx: tile.corePx.maxXPx / k, maxYPx: tile.corePx.maxYPx / k };
+      const box = tileCoreScenePx(ps.plan, tile);
       state.failedTilesPx.set(task.sceneKey, [...(state.failedTilesPx.get(task.sceneKey) ?? []), box]);
     }
     this.progress({ tilesFailed: state.progress.tilesFailed + 1 });

@@ -311,3 +311,12 @@ export function chooseTilePx(input: TileSizeInput): number {
   const best = Math.min(...costs.map((c) => c[1]));
   return costs.find((c) => c[1] === best)![0];
 }
+
+/**
+ * A tile's core in full-resolution scene pixels: the part of the scene whose detections only this tile gives. When
+ * the tile fails for good this area counts as not imaged (coverage.ts `failedTilesPx`), in the page and in a batch.
+ */
+export function tileCoreScenePx(plan: Pick<TilePlan, 'scale'>, tile: Pick<PlannedTile, 'corePx'>): PixelBox {
+  const k = plan.scale, c = tile.corePx;
+  return { minXPx: c.minXPx / k, minYPx: c.minYPx / k, maxXPx: c.maxXPx / k, maxYPx: c.maxYPx / k };
+}
