@@ -30,19 +30,18 @@ export interface DetectArgs {
   quiet: boolean;
 }
 
-function bad(message: string): never {
-  throw new SeamtallyError('bad-argument', `${message} ${USAGE}`);
-}
-
-function intArg(v: string | undefined, name: string, min: number): number | undefined {
+/** A whole-number option ≥ min, or the sentence (with `usage`) saying what it must be. */
+export function intArg(v: string | undefined, name: string, min: number, usage = USAGE): number | undefined {
   if (v === undefined) return undefined;
   const n = Number(v);
-  if (!Number.isInteger(n) || n < min) bad(`--${name} must be a whole number ≥ ${min}, not "${v}".`);
+  if (!Number.isInteger(n) || n < min) throw new SeamtallyError('bad-argument', `--${name} must be a whole number ≥ ${min}, not "${v}". ${usage}`);
   return n;
 }
 
-/** Parse argv (after `detect`). Throws SeamtallyError('bad-argument') with the usage line. */
-export function parseDetectArgs(argv: string[]): DetectArgs {
+/** Parse argv (after `detect`). Throws SeamtallyError('bad-argument') with the usage line (`usage`: another command's that takes the same options). */
+export function parseDetectArgs(argv: string[], usage = USAGE): DetectArgs {
+  function bad(message: string): never { throw new SeamtallyError('bad-argument', `${message} ${usage}`); }
+  const intArg1 = (v: string | undefined, name: string, min: number) => intArg(v, name, min, usage);
   let parsed;
   try {
     parsed = parseArgs({
@@ -63,7 +62,7 @@ export function parseDetectArgs(argv: string[]): DetectArgs {
   if (!v.model) bad('--model is required.');
   if (!v.out) bad('--out is required.');
   const ov = v.overlap ?? 'auto';
-  const overlapPx = ov === 'auto' ? 'auto' : intArg(ov, 'overlap', 0)!;
+  const overlapPx = ov === 'auto' ? 'auto' : intArg1(ov, 'overlap', 0)!;
   let minScore: number | undefined;
   if (v['min-score'] !== undefined) {
     minScore = Number(v['min-score']);
@@ -76,8 +75,8 @@ export function parseDetectArgs(argv: string[]): DetectArgs {
     if (!bands.every((b) => Number.isInteger(b) && b >= 0) || (bands.length !== 1 && bands.length !== 3)) bad(`--bands takes 1 or 3 band numbers counted from 1 (e.g. 5,3,2), not "${v.bands}".`);
   }
   return {
-    scenes: parsed.positionals, aoi: v.aoi, model: v.model, out: v.out, tilePx: intArg(v.tile, 'tile', 16), overlapPx, minScore,
-    date: v.date, threads: intArg(v.threads, 'threads', 1) ?? 1, bands, scorer: v.scorer, features: v.features ?? false, quiet: v.quiet ?? false,
+    scenes: parsed.positionals, aoi: v.aoi, model: v.model, out: v.out, tilePx: intArg1(v.tile, 'tile', 16), overlapPx, minScore,
+    date: v.date, threads: intArg1(v.threads, 'threads', 1) ?? 1, bands, scorer: v.scorer, features: v.features ?? false, quiet: v.quiet ?? false,
   };
 }
 

@@ -12,6 +12,7 @@ const commands: Record<string, () => Promise<Command>> = {
   sample: () => import('./sample.ts'),
   estimate: () => import('./estimate.ts'),
   adapt: () => import('./adapt.ts'),
+  batch: () => import('./batch.ts'),
 };
 
 export async function main(argv: string[]): Promise<number> {
